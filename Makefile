@@ -1,0 +1,29 @@
+# Two entry points: `make serve` and `make test`. Each builds .venv as needed.
+PYTHON ?= python3
+VENV   := .venv
+BIN    := $(VENV)/bin
+PORT   ?= 8000
+
+.PHONY: serve test lint clean
+
+$(BIN)/python:
+	$(PYTHON) -m venv $(VENV)
+	$(BIN)/python -m pip install --quiet --upgrade pip
+
+$(VENV)/.installed: pyproject.toml | $(BIN)/python
+	$(BIN)/python -m pip install --quiet -e .
+	touch $@
+
+$(VENV)/.installed-test: pyproject.toml | $(BIN)/python
+	$(BIN)/python -m pip install --quiet -e ".[test]"
+	touch $@ $(VENV)/.installed
+
+serve: $(VENV)/.installed
+	PORT=$(PORT) $(BIN)/gunicorn --config deploy/gunicorn.conf.py "service.app:create_app()"
+
+test: $(VENV)/.installed-test
+	$(BIN)/ruff check model service tests
+	$(BIN)/python -m pytest
+
+clean:
+	rm -rf $(VENV) .pytest_cache

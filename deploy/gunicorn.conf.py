@@ -1,0 +1,11 @@
+"""gunicorn settings for pourheat: `make serve` and the systemd unit use this file."""
+
+import multiprocessing
+import os
+
+bind = f"127.0.0.1:{os.environ.get('PORT', '8000')}"
+workers = int(os.environ.get("POURHEAT_WORKERS", min(4, multiprocessing.cpu_count() * 2)))
+timeout = int(os.environ.get("POURHEAT_TIMEOUT_S", "60"))
+graceful_timeout = 30
+accesslog = "-"
+errorlog = "-"
