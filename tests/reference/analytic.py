@@ -66,7 +66,7 @@ def _check_inside(x: NDArray[np.float64], lo: float, hi: float) -> None:
 
 
 def _terms_needed(fourier: float, first_root: float, spacing: float, n_min: int) -> int:
-    """Number of terms so that exp(-lambda_N**2 * Fo) < _TAIL_TOL for the first omitted root.
+    """Return how many terms make exp(-lambda_N**2 * Fo) < _TAIL_TOL at the first omitted root.
 
     Roots are assumed to satisfy lambda_n >= first_root + (n - 1) * spacing.
     """

@@ -1,0 +1,170 @@
+"""Finite-volume conduction network of a domain: cell links, boundary faces, the sparse matrix.
+
+Each pair of neighbouring solid cells is linked by the conductance of their two half-cells in
+series, ``G = A / (d1/(2 k1) + d2/(2 k2))``; each solid cell face on the edge of the solid is a
+boundary face, labelled by the face of the element (or of the ground) it lies on.
+"""
+
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+from numpy.typing import NDArray
+
+from model.grid import CONCRETE, GROUND, VOID, Domain
+
+_PLAN_FACES = (("left", "right"), ("front", "back"))
+SYMMETRY, GROUND_FAR, GROUND_SURFACE, DEEP = "symmetry", "ground_far", "ground_surface", "deep"
+"""Labels of boundary faces that are not element faces."""
+
+
+@dataclass(frozen=True)
+class BoundaryFaces:
+    """Cell faces on one labelled boundary: active cell index, face area [m2], half width [m]."""
+
+    cell: NDArray[np.int64]
+    area_m2: NDArray[np.float64]
+    half_width_m: NDArray[np.float64]
+
+
+@dataclass(frozen=True)
+class Network:
+    """Conduction network over the solid (non-void) cells, numbered 0..n-1.
+
+    Attributes
+    ----------
+    flat_index : for each solid cell, its flat index in the (nx, ny, nz) grid
+    volume_m3 : cell volumes [m3]
+    is_concrete : which solid cells are concrete
+    link_p, link_q : the two cells of each internal link
+    link_area_m2 : face area of each link [m2]
+    link_half_p_m, link_half_q_m : centre-to-face distances on either side [m]
+    boundaries : boundary faces by label
+    """
+
+    flat_index: NDArray[np.int64]
+    volume_m3: NDArray[np.float64]
+    is_concrete: NDArray[np.bool_]
+    link_p: NDArray[np.int64]
+    link_q: NDArray[np.int64]
+    link_area_m2: NDArray[np.float64]
+    link_half_p_m: NDArray[np.float64]
+    link_half_q_m: NDArray[np.float64]
+    boundaries: dict[str, BoundaryFaces]
+
+    @property
+    def size(self) -> int:
+        """Number of solid cells."""
+        return self.flat_index.size
+
+
+def _face_label(material: int, axis: int, high: bool, at_edge: bool, mirrored: bool) -> str:
+    if axis == 2:
+        if material == CONCRETE:
+            return "top" if high else "bottom"
+        return GROUND_SURFACE if high else DEEP
+    if not high and at_edge and mirrored:
+        return SYMMETRY
+    if material == GROUND:
+        return GROUND_FAR
+    return _PLAN_FACES[axis][int(high)]
+
+
+def build_network(domain: Domain) -> Network:
+    """Links and labelled boundary faces of the solid cells of a domain."""
+    mat = domain.material
+    solid = mat != VOID
+    numbering = np.full(mat.shape, -1, dtype=np.int64)
+    numbering[solid] = np.arange(int(solid.sum()))
+    widths = [domain.widths_m(a) for a in range(3)]
+    volume = domain.volumes_m3()
+
+    links: list[tuple[NDArray, ...]] = []
+    faces: dict[str, list[tuple[NDArray, NDArray, NDArray]]] = {}
+    for axis in range(3):
+        n = mat.shape[axis]
+        if n == 1:
+            # A unit-thickness plan axis (slab or section): no faces across it.
+            continue
+        area = volume / widths[axis].reshape([-1 if a == axis else 1 for a in range(3)])
+        half = np.broadcast_to(
+            0.5 * widths[axis].reshape([-1 if a == axis else 1 for a in range(3)]), mat.shape
+        )
+        lo = [slice(None)] * 3
+        hi = [slice(None)] * 3
+        lo[axis], hi[axis] = slice(0, n - 1), slice(1, n)
+        lo_t, hi_t = tuple(lo), tuple(hi)
+        both = solid[lo_t] & solid[hi_t]
+        links.append((numbering[lo_t][both], numbering[hi_t][both], area[lo_t][both],
+                      half[lo_t][both], half[hi_t][both]))
+        for high in (False, True):
+            neighbour_solid = np.zeros(mat.shape, dtype=bool)
+            inner = hi_t if not high else lo_t
+            outer = lo_t if not high else hi_t
+            neighbour_solid[inner] = solid[outer]
+            at_edge = np.zeros(mat.shape, dtype=bool)
+            edge = [slice(None)] * 3
+            edge[axis] = slice(n - 1, n) if high else slice(0, 1)
+            at_edge[tuple(edge)] = True
+            open_face = solid & ~neighbour_solid
+            for material in (CONCRETE, GROUND):
+                for edge_flag in (False, True):
+                    sel = open_face & (mat == material) & (at_edge == edge_flag)
+                    if not sel.any():
+                        continue
+                    label = _face_label(material, axis, high, edge_flag,
+                                        domain.mirrored[axis] if axis < 2 else False)
+                    faces.setdefault(label, []).append((numbering[sel], area[sel], half[sel]))
+
+    link_p, link_q, link_area, half_p, half_q = (np.concatenate(parts) for parts in zip(*links))
+    boundaries = {
+        label: BoundaryFaces(*(np.concatenate(parts) for parts in zip(*groups)))
+        for label, groups in faces.items()
+    }
+    return Network(
+        flat_index=np.flatnonzero(solid.ravel()), volume_m3=volume[solid],
+        is_concrete=mat[solid] == CONCRETE, link_p=link_p, link_q=link_q,
+        link_area_m2=link_area, link_half_p_m=half_p, link_half_q_m=half_q,
+        boundaries=boundaries,
+    )
+
+
+def conduction_matrix(
+    network: Network, conductivity_w_mk: NDArray[np.float64],
+    boundary_conductance: dict[str, NDArray[np.float64]],
+) -> sp.csc_array:
+    """Sparse conduction matrix K [W/K] so that the net heat gain of the cells is ``-K T + g``.
+
+    Parameters
+    ----------
+    network : the conduction network
+    conductivity_w_mk : conductivity of each solid cell [W/(m K)]
+    boundary_conductance : per boundary label, the conductance of each of its faces from the cell
+        centre to the surroundings [W/K] (see :func:`boundary_conductance_w_k`)
+    """
+    k = conductivity_w_mk
+    g = network.link_area_m2 / (
+        network.link_half_p_m / k[network.link_p] + network.link_half_q_m / k[network.link_q]
+    )
+    diag = np.bincount(network.link_p, g, network.size) + np.bincount(network.link_q, g, network.size)
+    for label, conductance in boundary_conductance.items():
+        diag += np.bincount(network.boundaries[label].cell, conductance, network.size)
+    p, q = network.link_p, network.link_q
+    rows = np.concatenate([p, q, np.arange(network.size)])
+    cols = np.concatenate([q, p, np.arange(network.size)])
+    data = np.concatenate([-g, -g, diag])
+    return sp.csc_array((data, (rows, cols)), shape=(network.size, network.size))
+
+
+def boundary_conductance_w_k(
+    faces: BoundaryFaces, conductivity_w_mk: NDArray[np.float64], surface_w_m2k: float
+) -> NDArray[np.float64]:
+    """Conductance from each boundary cell centre to its surroundings [W/K].
+
+    The half cell is in series with the surface conductance U (``inf`` for a fixed temperature
+    face): ``G = A / (d/(2k) + 1/U)``.
+    """
+    resistance = faces.half_width_m / conductivity_w_mk[faces.cell]
+    if np.isfinite(surface_w_m2k):
+        resistance = resistance + 1.0 / surface_w_m2k
+    return faces.area_m2 / resistance

@@ -1,0 +1,223 @@
+"""Plain model inputs: the element, its concrete, faces, ground, weather and numerical settings.
+
+These are value objects (frozen dataclasses) in SI units; service/ builds them from requests.
+"""
+
+from dataclasses import dataclass, field
+from typing import Literal
+
+from model.ambient import Ambient
+from model.boundaries import CONCRETE_EMISSIVITY
+from model.maturity import NURSE_SAUL_DATUM_C
+from model.hydration import HydrationParameters
+from model.properties import MixMasses
+
+Shape = Literal["slab", "section", "block"]
+
+FACE_NAMES = ("top", "bottom", "left", "right", "front", "back")
+"""Faces of an element: top and bottom (all shapes), left/right across the width (section and
+block, x axis), front/back along the length (block, y axis)."""
+
+
+@dataclass(frozen=True)
+class Element:
+    """Geometry of the placement [m].
+
+    Attributes
+    ----------
+    shape : "slab" (1D through the thickness), "section" (2D, width x height, long in the third
+        direction) or "block" (3D, length x width x height)
+    height_m : vertical dimension (the slab thickness) [m]
+    width_m : horizontal dimension across the section (x) [m]
+    length_m : horizontal dimension along the block (y) [m]
+    """
+
+    shape: Shape
+    height_m: float
+    width_m: float | None = None
+    length_m: float | None = None
+
+    def face_names(self) -> tuple[str, ...]:
+        """Names of the faces this shape has."""
+        return {"slab": FACE_NAMES[:2], "section": FACE_NAMES[:4], "block": FACE_NAMES}[self.shape]
+
+
+@dataclass(frozen=True)
+class Face:
+    """Thermal condition of one face.
+
+    Attributes
+    ----------
+    adiabatic : no heat crosses the face (symmetry plane or perfect insulation)
+    insulation_r_m2k_w : insulation blanket resistance [m2 K/W]
+    insulation_removal_h : hour after placement when the insulation comes off [h]; None: stays
+    formwork_r_m2k_w : formwork resistance [m2 K/W]
+    formwork_removal_h : hour when the forms come off [h]; None: they stay
+    film_coefficient_w_m2k : total surface coefficient replacing wind and radiation [W/(m2 K)]
+    solar_absorptivity : fraction of solar irradiance absorbed on the outer face [-]
+    emissivity : long-wave emissivity of the outer face [-]
+    """
+
+    adiabatic: bool = False
+    insulation_r_m2k_w: float = 0.0
+    insulation_removal_h: float | None = None
+    formwork_r_m2k_w: float = 0.0
+    formwork_removal_h: float | None = None
+    film_coefficient_w_m2k: float | None = None
+    solar_absorptivity: float = 0.0
+    emissivity: float = CONCRETE_EMISSIVITY
+
+    def resistance_m2k_w(self, time_h: float) -> float:
+        """Resistance of what covers the face at a time [m2 K/W]."""
+        total = 0.0
+        for r, removal in ((self.insulation_r_m2k_w, self.insulation_removal_h),
+                           (self.formwork_r_m2k_w, self.formwork_removal_h)):
+            if removal is None or time_h < removal:
+                total += r
+        return total
+
+    def removal_times_h(self) -> tuple[float, ...]:
+        """Hours at which this face's covering changes [h]."""
+        return tuple(t for t in (self.insulation_removal_h, self.formwork_removal_h) if t is not None)
+
+
+@dataclass(frozen=True)
+class Concrete:
+    """Concrete of the placement.
+
+    Attributes
+    ----------
+    cementitious_kg_m3 : total cementitious content Cc [kg/m3]
+    hydration : heat-of-hydration parameters (Hu per kg of cementitious) [see HydrationParameters]
+    masses : mix masses for the Van Breugel specific heat and the density [kg/m3]
+    hardened_conductivity_w_mk : k_uc of the hydration-dependent conductivity [W/(m K)]
+    density_kg_m3 : if set, fixed density [kg/m3]; else the sum of the mix masses
+    specific_heat_j_kgk : if set, fixed specific heat [J/(kg K)]; else Van Breugel (1998)
+    conductivity_w_mk : if set, fixed conductivity [W/(m K)]; else k_uc (1.33 - 0.33 alpha)
+    """
+
+    cementitious_kg_m3: float
+    hydration: HydrationParameters
+    masses: MixMasses
+    hardened_conductivity_w_mk: float = 2.5
+    density_kg_m3: float | None = None
+    specific_heat_j_kgk: float | None = None
+    conductivity_w_mk: float | None = None
+
+    @property
+    def density(self) -> float:
+        """Density used by the solver [kg/m3]."""
+        return self.density_kg_m3 if self.density_kg_m3 is not None else self.masses.density_kg_m3
+
+
+@dataclass(frozen=True)
+class Ground:
+    """Soil or rock under the element, meshed with its own properties.
+
+    Attributes
+    ----------
+    depth_m : depth of the meshed layer below the element [m]
+    conductivity_w_mk, density_kg_m3, specific_heat_j_kgk : properties of the layer
+    deep_temperature_c : fixed temperature at the bottom of the layer [C]
+    initial_temperature_c : temperature of the layer at placement [C]; None: the deep value
+    margin_m : meshed ground beyond the element's footprint on each side (2D and 3D) [m];
+        None: equal to ``depth_m``; its top is bare to the air, its far sides adiabatic
+    """
+
+    depth_m: float = 3.0
+    conductivity_w_mk: float = 1.5
+    density_kg_m3: float = 1900.0
+    specific_heat_j_kgk: float = 900.0
+    deep_temperature_c: float = 15.0
+    initial_temperature_c: float | None = None
+    margin_m: float | None = None
+
+
+@dataclass(frozen=True)
+class Resolution:
+    """Numerical settings; the defaults give typical pours within 0.1 C of a converged run.
+
+    Attributes
+    ----------
+    surface_cell_m : cell size at an exposed face [m]
+    growth : cell size growth per cell away from exposed faces [-]
+    max_cell_m : largest cell [m]
+    max_step_h : largest time step [h]
+    first_step_h : first step, and the step after a sudden change at a face [h]
+    alpha_change : target largest change of degree of hydration per step [-]
+    temperature_change_c : target largest temperature change per step [C]
+    """
+
+    surface_cell_m: float = 0.02
+    growth: float = 1.2
+    max_cell_m: float = 0.15
+    max_step_h: float = 1.0
+    first_step_h: float = 0.05
+    alpha_change: float = 0.004
+    temperature_change_c: float = 0.5
+
+    def refined(self, factor: float) -> "Resolution":
+        """Settings with cells and steps divided by ``factor`` (for convergence studies)."""
+        return Resolution(
+            surface_cell_m=self.surface_cell_m / factor,
+            growth=1.0 + (self.growth - 1.0) / factor,
+            max_cell_m=self.max_cell_m / factor,
+            max_step_h=self.max_step_h / factor,
+            first_step_h=self.first_step_h / factor,
+            alpha_change=self.alpha_change / factor,
+            temperature_change_c=self.temperature_change_c / factor,
+        )
+
+
+@dataclass(frozen=True)
+class Sensor:
+    """A point where the forecast reports temperatures.
+
+    Attributes
+    ----------
+    id : label
+    depth_m : depth below the top face [m]
+    x_m, y_m : plan position from the element's centre across the width (x) and along the
+        length (y) [m]
+    """
+
+    id: str
+    depth_m: float
+    x_m: float = 0.0
+    y_m: float = 0.0
+
+
+@dataclass(frozen=True)
+class Scenario:
+    """Everything a forecast needs.
+
+    Attributes
+    ----------
+    element, concrete, ambient : see their classes
+    faces : condition of each face by name (missing faces are bare to the air)
+    placement_c : concrete temperature at placement [C]
+    duration_h : forecast length [h]
+    output_interval_h : spacing of the reported series [h]
+    ground : soil or rock layer under the element; None: the bottom face condition applies
+    sensors : points to report
+    near_surface_depth_m : depth of the near-surface layer inside exposed faces [m]
+    nurse_saul_datum_c : datum temperature of the Nurse-Saul factor [C]
+    resolution : numerical settings
+    """
+
+    element: Element
+    concrete: Concrete
+    ambient: Ambient
+    faces: dict[str, Face] = field(default_factory=dict)
+    placement_c: float = 20.0
+    duration_h: float = 168.0
+    output_interval_h: float = 1.0
+    ground: Ground | None = None
+    sensors: tuple[Sensor, ...] = ()
+    near_surface_depth_m: float = 0.05
+    nurse_saul_datum_c: float = NURSE_SAUL_DATUM_C
+    resolution: Resolution = field(default_factory=Resolution)
+
+    def face(self, name: str) -> Face:
+        """The condition of a face; a face not given is bare concrete exposed to the air."""
+        return self.faces.get(name, Face())

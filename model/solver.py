@@ -1,0 +1,392 @@
+"""The forecast solver: implicit finite-volume heat conduction with a hydration heat source.
+
+Governing equation (cell-centred finite volumes on the rectilinear grid of :mod:`model.grid`):
+``rho c(alpha, T) dT/dt = div(k(alpha) grad T) + Hu Cc d(alpha)/dt``, with the degree of
+hydration a function of the Arrhenius equivalent age (Schindler & Folliard 2005).
+
+Time stepping is the variable-step second-order backward differentiation formula (BDF2), which
+is L-stable and so free of the ringing Crank-Nicolson shows after a sudden start or a blanket
+removal; its first step, and the first after a sudden change at a face, is backward Euler.
+Each step solves the coupled temperature / equivalent-age equations by a Newton (chord)
+iteration whose matrix, the capacity and conduction matrix plus the derivative of the Arrhenius
+heat source, is factorised once per step and reused across iterations. The hydration heat of a
+step is ``Hu Cc (alpha_{n+1} - alpha_hist)`` with alpha taken from the equivalent age, so the
+heat released over the forecast is exactly ``Hu Cc`` times the change in degree of hydration.
+Properties that depend on hydration are evaluated at the state extrapolated to the end of the
+step, which keeps second-order accuracy. Step sizes adapt to the change of degree of hydration
+and of temperature per step, so the hydration peak is resolved, and land on every reporting time
+and every insulation or form removal.
+
+References
+----------
+Hairer, E. and Wanner, G. (1996), "Solving Ordinary Differential Equations II", 2nd ed.,
+section III.5 (variable-step BDF) and IV.3 (L-stability).
+Schindler, A. K. and Folliard, K. J. (2005), ACI Materials Journal 102(1), 24-33.
+"""
+
+import logging
+import math
+from dataclasses import dataclass
+
+import numpy as np
+import scipy.sparse as sp
+import scipy.sparse.linalg as spla
+from numpy.typing import NDArray
+
+from model.assembly import (
+    DEEP,
+    GROUND_FAR,
+    GROUND_SURFACE,
+    SYMMETRY,
+    Network,
+    boundary_conductance_w_k,
+    build_network,
+    conduction_matrix,
+)
+from model.boundaries import (
+    convection_coefficient_w_m2k,
+    radiation_coefficient_w_m2k,
+    sol_air_temperature_c,
+    surface_conductance_w_m2k,
+)
+from model.grid import build_domain
+from model.hydration import degree_of_hydration, hydration_slope_per_h
+from model.maturity import arrhenius_factor, arrhenius_factor_slope, nurse_saul_factor_ch
+from model.properties import conductivity_w_mk, specific_heat_j_kgk
+from model.results import EnergyBalance, Forecast, Summary, time_of_max
+from model.sampling import build_sampler
+from model.scenario import Face, Scenario
+
+log = logging.getLogger(__name__)
+
+NEWTON_TOLERANCE_C = 1e-6
+"""Newton iterations stop when no temperature changes by more than this [C]."""
+MAX_NEWTON_ITERATIONS = 12
+MAX_STEP_GROWTH = 1.5
+"""Largest ratio of a step to the previous one (BDF2 is zero-stable below 1 + sqrt(2))."""
+REJECT_RATIO = 2.0
+"""A step whose change exceeds this multiple of its target is repeated with a smaller step."""
+_SECONDS_PER_HOUR = 3600.0
+
+
+class ConvergenceError(RuntimeError):
+    """The nonlinear step could not be solved even with the smallest allowed step."""
+
+
+@dataclass
+class _State:
+    time_h: float
+    temperature_c: NDArray[np.float64]
+    equivalent_age_h: NDArray[np.float64]
+    alpha: NDArray[np.float64]
+
+
+class ThermalSolver:
+    """Forecasts one scenario: builds the mesh once, then marches in time.
+
+    Parameters
+    ----------
+    scenario : the placement, its concrete, faces, ground and weather
+    """
+
+    def __init__(self, scenario: Scenario) -> None:
+        self.scenario = scenario
+        self.domain = build_domain(scenario)
+        self.network: Network = build_network(self.domain)
+        numbering = np.full(self.domain.material.size, -1, dtype=np.int64)
+        numbering[self.network.flat_index] = np.arange(self.network.size)
+        self.sampler = build_sampler(scenario, self.domain, numbering)
+        concrete = scenario.concrete
+        self._is_concrete = self.network.is_concrete
+        self._heat_j = np.where(
+            self._is_concrete,
+            concrete.hydration.total_heat_j_kg * concrete.cementitious_kg_m3 * self.network.volume_m3,
+            0.0,
+        )
+        self._faces = self._face_laws()
+
+    # -- material and boundary laws -------------------------------------------------------
+    def _face_laws(self) -> dict[str, Face | None]:
+        """Boundary label -> Face law (None: fixed deep-ground temperature); adiabatic omitted."""
+        laws: dict[str, Face | None] = {}
+        for label in self.network.boundaries:
+            if label in (SYMMETRY, GROUND_FAR):
+                continue
+            if label == DEEP:
+                laws[label] = None
+            elif label == GROUND_SURFACE:
+                laws[label] = Face()
+            elif not self.scenario.face(label).adiabatic:
+                laws[label] = self.scenario.face(label)
+        return laws
+
+    def _properties(
+        self, alpha: NDArray[np.float64], temperature_c: NDArray[np.float64]
+    ) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+        """Conductivity [W/(m K)] and heat capacity [J/K] of every solid cell."""
+        concrete, ground = self.scenario.concrete, self.scenario.ground
+        conc = self._is_concrete
+        if concrete.conductivity_w_mk is not None:
+            k_c = np.full(alpha.shape, concrete.conductivity_w_mk)
+        else:
+            k_c = conductivity_w_mk(alpha, concrete.hardened_conductivity_w_mk)
+        if concrete.specific_heat_j_kgk is not None:
+            c_c = np.full(alpha.shape, concrete.specific_heat_j_kgk)
+        else:
+            c_c = specific_heat_j_kgk(alpha, temperature_c, concrete.masses)
+        rho_c = concrete.density * c_c
+        if ground is None:
+            return k_c, rho_c * self.network.volume_m3
+        k = np.where(conc, k_c, ground.conductivity_w_mk)
+        rho_cp = np.where(conc, rho_c, ground.density_kg_m3 * ground.specific_heat_j_kgk)
+        return k, rho_cp * self.network.volume_m3
+
+    def _boundaries(
+        self, time_h: float, conductivity: NDArray[np.float64]
+    ) -> dict[str, tuple[NDArray[np.float64], float]]:
+        """Per active boundary label: face conductances [W/K] and surrounding temperature [C]."""
+        amb = self.scenario.ambient
+        air = float(amb.air_temperature_c(time_h))
+        out: dict[str, tuple[NDArray[np.float64], float]] = {}
+        for label, face in self._faces.items():
+            faces = self.network.boundaries[label]
+            if face is None:
+                out[label] = (boundary_conductance_w_k(faces, conductivity, math.inf),
+                              self.scenario.ground.deep_temperature_c)  # type: ignore[union-attr]
+                continue
+            if face.film_coefficient_w_m2k is not None:
+                film = face.film_coefficient_w_m2k
+            else:
+                film = float(convection_coefficient_w_m2k(amb.wind_speed_m_s(time_h))
+                             + radiation_coefficient_w_m2k(air, face.emissivity))
+            u = float(surface_conductance_w_m2k(film, face.resistance_m2k_w(time_h)))
+            absorbed = face.solar_absorptivity * float(amb.irradiance_w_m2(time_h))
+            out[label] = (boundary_conductance_w_k(faces, conductivity, u),
+                          float(sol_air_temperature_c(air, absorbed, film)))
+        return out
+
+    def _matrix_and_load(
+        self, time_h: float, conductivity: NDArray[np.float64]
+    ) -> tuple[sp.csc_array, NDArray[np.float64], dict[str, tuple[NDArray, float]]]:
+        bounds = self._boundaries(time_h, conductivity)
+        k_mat = conduction_matrix(self.network, conductivity, {b: g for b, (g, _) in bounds.items()})
+        load = np.zeros(self.network.size)
+        for label, (g, t_env) in bounds.items():
+            load += np.bincount(self.network.boundaries[label].cell, g * t_env, self.network.size)
+        return k_mat, load, bounds
+
+    def _heat_loss_w(self, temperature_c: NDArray[np.float64], bounds: dict) -> float:
+        """Heat flow out of the domain through all faces [W]."""
+        total = 0.0
+        for label, (g, t_env) in bounds.items():
+            cells = self.network.boundaries[label].cell
+            total += float(np.sum(g * (temperature_c[cells] - t_env)))
+        return total
+
+    # -- time stepping ---------------------------------------------------------------------
+    def _initial_state(self) -> _State:
+        sc = self.scenario
+        temperature = np.full(self.network.size, sc.placement_c)
+        if sc.ground is not None:
+            t_ground = (sc.ground.initial_temperature_c if sc.ground.initial_temperature_c
+                        is not None else sc.ground.deep_temperature_c)
+            temperature[~self._is_concrete] = t_ground
+        zeros = np.zeros(self.network.size)
+        return _State(0.0, temperature, zeros.copy(), zeros.copy())
+
+    def _step(
+        self, state: _State, previous: _State | None, step_h: float
+    ) -> tuple[_State, NDArray[np.float64], dict] | None:
+        """One BDF2 step (backward Euler without history); None if Newton fails."""
+        hyd = self.scenario.concrete.hydration
+        if previous is None:
+            ratio = 0.0
+            t_hist, te_hist, a_hist = state.temperature_c, state.equivalent_age_h, state.alpha
+            t_pred, a_pred = state.temperature_c, state.alpha
+        else:
+            ratio = step_h / (state.time_h - previous.time_h)
+            c1, c2 = (1.0 + ratio) ** 2 / (1.0 + 2.0 * ratio), ratio**2 / (1.0 + 2.0 * ratio)
+            t_hist = c1 * state.temperature_c - c2 * previous.temperature_c
+            te_hist = c1 * state.equivalent_age_h - c2 * previous.equivalent_age_h
+            a_hist = c1 * state.alpha - c2 * previous.alpha
+            t_pred = state.temperature_c + ratio * (state.temperature_c - previous.temperature_c)
+            a_pred = np.clip(state.alpha + ratio * (state.alpha - previous.alpha), 0.0, 1.0)
+        gamma_h = step_h * (1.0 + ratio) / (1.0 + 2.0 * ratio)
+        gamma_s = gamma_h * _SECONDS_PER_HOUR
+        time_h = state.time_h + step_h
+        conductivity, capacity = self._properties(a_pred, t_pred)
+        k_mat, load, bounds = self._matrix_and_load(time_h, conductivity)
+        conc = self._is_concrete
+
+        def hydration(temperature: NDArray[np.float64]):
+            rate = arrhenius_factor(temperature, hyd.activation_energy_j_mol)
+            te = np.where(conc, te_hist + gamma_h * rate, 0.0)
+            alpha = np.where(conc, degree_of_hydration(te, hyd.tau_h, hyd.beta, hyd.alpha_u), 0.0)
+            return te, alpha
+
+        def jacobian(temperature: NDArray[np.float64], te: NDArray[np.float64]):
+            source = self._heat_j * gamma_h * hydration_slope_per_h(
+                te, hyd.tau_h, hyd.beta, hyd.alpha_u
+            ) * arrhenius_factor_slope(temperature, hyd.activation_energy_j_mol)
+            return spla.splu(sp.csc_array(sp.diags_array(capacity - source) + gamma_s * k_mat))
+
+        temperature = t_pred.copy()
+        te, alpha = hydration(temperature)
+        lu = jacobian(temperature, te)
+        for iteration in range(2 * MAX_NEWTON_ITERATIONS):
+            residual = (capacity * (temperature - t_hist) + gamma_s * (k_mat @ temperature - load)
+                        - self._heat_j * (alpha - a_hist))
+            delta = lu.solve(residual)
+            temperature = temperature - delta
+            te, alpha = hydration(temperature)
+            if not np.all(np.isfinite(temperature)):
+                return None
+            if np.max(np.abs(delta)) < NEWTON_TOLERANCE_C:
+                break
+            if iteration + 1 == MAX_NEWTON_ITERATIONS:
+                lu = jacobian(temperature, te)
+        else:
+            return None
+        return _State(time_h, temperature, te, alpha), capacity, bounds
+
+    def _targets(self) -> tuple[list[float], set[float]]:
+        """Times the steps must land on, and the subset after which the history restarts."""
+        sc = self.scenario
+        n = int(math.floor(sc.duration_h / sc.output_interval_h + 1e-9))
+        outputs = [i * sc.output_interval_h for i in range(1, n + 1)]
+        if not outputs or outputs[-1] < sc.duration_h - 1e-9:
+            outputs.append(sc.duration_h)
+        events = {
+            t for name in sc.element.face_names() for t in sc.face(name).removal_times_h()
+            if 0.0 < t < sc.duration_h
+        }
+        return sorted(set(outputs) | events), events
+
+    def run(self) -> Forecast:
+        """March from placement to the end of the forecast and summarise."""
+        sc, res = self.scenario, self.scenario.resolution
+        targets, restarts = self._targets()
+        state, previous = self._initial_state(), None
+        conductivity, capacity = self._properties(state.alpha, state.temperature_c)
+        _, _, bounds = self._matrix_and_load(0.0, conductivity)
+        record = _Recorder(self)
+        record.add(state, self._heat_loss_w(state.temperature_c, bounds))
+        desired, last_step = res.first_step_h, math.inf
+        generated = stored = lost = 0.0
+        for target in targets:
+            while state.time_h < target - 1e-9:
+                cap = min(desired, res.max_step_h, 2.0 * last_step if previous else math.inf)
+                remaining = target - state.time_h
+                step = remaining / math.ceil(remaining / cap - 1e-9)
+                outcome = self._step(state, previous, step)
+                change = math.inf
+                if outcome is not None:
+                    new = outcome[0]
+                    change = max(
+                        np.max(np.abs(new.alpha - state.alpha)) / res.alpha_change,
+                        np.max(np.abs(new.temperature_c - state.temperature_c))
+                        / res.temperature_change_c,
+                    )
+                if outcome is None or (change > REJECT_RATIO and step > 1e-3 * res.first_step_h):
+                    if step <= 1e-4 * res.first_step_h:
+                        raise ConvergenceError(f"no convergence at {state.time_h:.3f} h")
+                    desired = step * (0.5 if outcome is None else max(0.2, 0.9 / change))
+                    continue
+                new, capacity, bounds = outcome
+                loss = self._heat_loss_w(new.temperature_c, bounds)
+                generated += float(np.sum(self._heat_j * (new.alpha - state.alpha)))
+                stored += float(np.sum(capacity * (new.temperature_c - state.temperature_c)))
+                lost += 0.5 * (record.loss_w[-1] + loss) * step * _SECONDS_PER_HOUR
+                record.add(new, loss)
+                previous, state, last_step = state, new, step
+                desired = step * min(MAX_STEP_GROWTH, 0.9 / max(change, 1e-6))
+            if target in restarts:
+                previous, desired = None, res.first_step_h
+        log.debug("forecast: %d cells, %d steps", self.network.size, len(record.time_h) - 1)
+        return record.forecast(targets, EnergyBalance(generated, stored, lost))
+
+
+class _Recorder:
+    """Collects the diagnostics of every accepted step and builds the Forecast."""
+
+    def __init__(self, solver: ThermalSolver) -> None:
+        self.solver = solver
+        self.concrete_cells = np.flatnonzero(solver.network.is_concrete)
+        self.time_h: list[float] = []
+        self.loss_w: list[float] = []
+        self.core: list[float] = []
+        self.coolest: list[float] = []
+        self.samples: list[NDArray[np.float64]] = []
+        self.core_te: list[float] = []
+        self.core_alpha: list[float] = []
+        self.sample_te: list[NDArray[np.float64]] = []
+
+    def add(self, state: _State, loss_w: float) -> None:
+        t_conc = state.temperature_c[self.concrete_cells]
+        hottest = self.concrete_cells[int(np.argmax(t_conc))]
+        self.time_h.append(state.time_h)
+        self.loss_w.append(loss_w)
+        self.core.append(float(t_conc.max()))
+        self.coolest.append(float(t_conc.min()))
+        self.samples.append(self.solver.sampler.matrix @ state.temperature_c)
+        self.core_te.append(float(state.equivalent_age_h[hottest]))
+        self.core_alpha.append(float(state.alpha[hottest]))
+        self.sample_te.append(self.solver.sampler.matrix @ state.equivalent_age_h)
+
+    def forecast(self, targets: list[float], energy: EnergyBalance) -> Forecast:
+        sc = self.solver.scenario
+        sampler = self.solver.sampler
+        time = np.array(self.time_h)
+        core = np.array(self.core)
+        samples = np.array(self.samples)
+        faces = {name: samples[:, rows].min(axis=1) for name, rows in sampler.face_rows.items()}
+        layer = np.concatenate(list(sampler.face_rows.values()))
+        layer_values = samples[:, layer]
+        coolest_sample = layer[np.argmin(layer_values, axis=1)]
+        surface = layer_values.min(axis=1)
+        steps = np.arange(time.size)
+        surface_te = np.array(self.sample_te)[steps, coolest_sample]
+        differential = core - surface
+        spread = core - np.array(self.coolest)
+        peak, peak_t = time_of_max(time, core)
+        dmax, dmax_t = time_of_max(time, differential)
+        smax, smax_t = time_of_max(time, spread)
+        summary = Summary(
+            peak_temperature_c=peak, peak_time_h=peak_t,
+            max_differential_c=dmax, max_differential_time_h=dmax_t,
+            max_spread_c=smax, max_spread_time_h=smax_t,
+            min_surface_temperature_c=float(surface.min()),
+            final_core_equivalent_age_h=float(self.core_te[-1]),
+            final_surface_equivalent_age_h=float(surface_te[-1]),
+        )
+        core_ns = nurse_saul_factor_ch(time, core, sc.nurse_saul_datum_c)
+        surface_ns = nurse_saul_factor_ch(time, surface, sc.nurse_saul_datum_c)
+        report = np.concatenate([[0.0], np.asarray(targets)])
+        keep = np.searchsorted(time, report - 1e-9)
+        keep = keep[np.isin(report, _output_times(sc.duration_h, sc.output_interval_h))]
+        return Forecast(
+            time_h=time[keep], core_c=core[keep], surface_c=surface[keep],
+            differential_c=differential[keep], coolest_c=np.array(self.coolest)[keep],
+            spread_c=spread[keep], air_c=sc.ambient.air_temperature_c(time[keep]),
+            faces_c={n: v[keep] for n, v in faces.items()},
+            sensors_c={s: samples[keep, row] for s, row in sampler.sensor_rows.items()},
+            core_equivalent_age_h=np.array(self.core_te)[keep],
+            surface_equivalent_age_h=surface_te[keep],
+            core_degree_of_hydration=np.array(self.core_alpha)[keep],
+            core_nurse_saul_ch=core_ns[keep], surface_nurse_saul_ch=surface_ns[keep],
+            summary=summary, energy=energy, steps=time.size - 1,
+            cells=self.solver.network.size,
+        )
+
+
+def _output_times(duration_h: float, interval_h: float) -> NDArray[np.float64]:
+    n = int(math.floor(duration_h / interval_h + 1e-9))
+    times = interval_h * np.arange(n + 1)
+    if times[-1] < duration_h - 1e-9:
+        times = np.append(times, duration_h)
+    return times
+
+
+def forecast(scenario: Scenario) -> Forecast:
+    """Forecast a scenario (convenience wrapper around :class:`ThermalSolver`)."""
+    return ThermalSolver(scenario).run()
