@@ -30,7 +30,6 @@ from dataclasses import dataclass
 
 import numpy as np
 import scipy.sparse as sp
-import scipy.sparse.linalg as spla
 from numpy.typing import NDArray
 
 from model.assembly import (
@@ -51,6 +50,7 @@ from model.boundaries import (
 )
 from model.grid import build_domain
 from model.hydration import degree_of_hydration, hydration_slope_per_h
+from model.linear import LinearSolveError, factorise
 from model.maturity import arrhenius_factor, arrhenius_factor_slope, nurse_saul_factor_ch
 from model.properties import conductivity_w_mk, specific_heat_j_kgk
 from model.results import EnergyBalance, Forecast, Summary, time_of_max
@@ -228,24 +228,28 @@ class ThermalSolver:
             source = self._heat_j * gamma_h * hydration_slope_per_h(
                 te, hyd.tau_h, hyd.beta, hyd.alpha_u
             ) * arrhenius_factor_slope(temperature, hyd.activation_energy_j_mol)
-            return spla.splu(sp.csc_array(sp.diags_array(capacity - source) + gamma_s * k_mat))
+            return factorise(sp.csc_array(sp.diags_array(capacity - source) + gamma_s * k_mat))
 
         temperature = t_pred.copy()
         te, alpha = hydration(temperature)
-        lu = jacobian(temperature, te)
-        for iteration in range(2 * MAX_NEWTON_ITERATIONS):
-            residual = (capacity * (temperature - t_hist) + gamma_s * (k_mat @ temperature - load)
-                        - self._heat_j * (alpha - a_hist))
-            delta = lu.solve(residual)
-            temperature = temperature - delta
-            te, alpha = hydration(temperature)
-            if not np.all(np.isfinite(temperature)):
+        try:
+            solve = jacobian(temperature, te)
+            for iteration in range(2 * MAX_NEWTON_ITERATIONS):
+                residual = (capacity * (temperature - t_hist)
+                            + gamma_s * (k_mat @ temperature - load)
+                            - self._heat_j * (alpha - a_hist))
+                delta = solve(residual)
+                temperature = temperature - delta
+                te, alpha = hydration(temperature)
+                if not np.all(np.isfinite(temperature)):
+                    return None
+                if np.max(np.abs(delta)) < NEWTON_TOLERANCE_C:
+                    break
+                if iteration + 1 == MAX_NEWTON_ITERATIONS:
+                    solve = jacobian(temperature, te)
+            else:
                 return None
-            if np.max(np.abs(delta)) < NEWTON_TOLERANCE_C:
-                break
-            if iteration + 1 == MAX_NEWTON_ITERATIONS:
-                lu = jacobian(temperature, te)
-        else:
+        except LinearSolveError:
             return None
         return _State(time_h, temperature, te, alpha), capacity, bounds
 

@@ -1,0 +1,1 @@
+"""pourheat HTTP service: Flask app factory, blueprints, pydantic schemas and converters."""

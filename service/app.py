@@ -1,0 +1,25 @@
+"""Flask application factory."""
+
+from typing import Any
+
+from flask import Flask
+
+from service import errors
+from service.blueprints import forecasts, health
+
+DEFAULT_MAX_BODY_BYTES = 2 * 1024 * 1024
+"""Largest accepted request body [bytes]."""
+
+
+def create_app(test_config: dict[str, Any] | None = None) -> Flask:
+    """Build the pourheat app; ``test_config`` overrides settings in tests."""
+    app = Flask(__name__)
+    app.config.from_mapping(MAX_CONTENT_LENGTH=DEFAULT_MAX_BODY_BYTES)
+    app.config.from_prefixed_env("POURHEAT")
+    if test_config:
+        app.config.update(test_config)
+    app.json.sort_keys = False
+    errors.init_app(app)
+    app.register_blueprint(health.bp)
+    app.register_blueprint(forecasts.bp)
+    return app

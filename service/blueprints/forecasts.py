@@ -1,0 +1,39 @@
+"""POST /v1/forecasts: a scenario in, the forecast out as JSON or CSV."""
+
+from flask import Blueprint, Response, jsonify, request
+from werkzeug.exceptions import BadRequest
+
+from model.solver import ConvergenceError, forecast
+from service.convert import forecast_csv, forecast_json, scenario_from
+from service.errors import InvalidScenario, problem
+from service.schemas import ScenarioIn
+
+bp = Blueprint("forecasts", __name__)
+
+
+def _wants_csv() -> bool:
+    if request.args.get("format") == "csv":
+        return True
+    best = request.accept_mimetypes.best_match(["application/json", "text/csv"])
+    return best == "text/csv" and request.accept_mimetypes["text/csv"] > request.accept_mimetypes[
+        "application/json"]
+
+
+@bp.post("/v1/forecasts")
+def create_forecast():
+    """Run a forecast for the posted scenario."""
+    payload = request.get_json(silent=True)
+    if payload is None:
+        raise BadRequest("the body must be a JSON object (Content-Type: application/json)")
+    scenario_in = ScenarioIn.model_validate(payload)
+    scenario, origin = scenario_from(scenario_in)
+    try:
+        result = forecast(scenario)
+    except ValueError as error:
+        raise InvalidScenario("sensors", str(error)) from error
+    except ConvergenceError as error:
+        return problem(422, "Forecast did not converge", str(error))
+    body = forecast_json(scenario_in, scenario, result, origin)
+    if _wants_csv():
+        return Response(forecast_csv(body), mimetype="text/csv")
+    return jsonify(body)

@@ -1,0 +1,194 @@
+"""Converters between the HTTP schemas and the model: request -> Scenario, Forecast -> JSON/CSV."""
+
+import csv
+import io
+from dataclasses import asdict
+from typing import Any
+
+import numpy as np
+
+from model.ambient import Ambient
+from model.cements import CementComposition, cement_preset
+from model.hydration import Binder, HydrationParameters, estimate_hydration
+from model.properties import MixMasses
+from model.results import Forecast
+from model.scenario import Concrete, Element, Face, Ground, Resolution, Scenario, Sensor
+from service.schemas import FaceIn, MixIn, ScenarioIn
+
+DEFAULT_DENSITY_KG_M3 = 2400.0
+"""Density of normal-weight concrete used to infer the aggregate mass when not given [kg/m3]
+(common practice, no source)."""
+
+CAUTIONS = (
+    "Limits come from the governing specification and the engineer of record; the default "
+    "limits (70 C peak, 19 C differential) are common specification values, not a promise.",
+    "This forecast is an estimate from a model; confirm it by monitoring temperatures in the "
+    "placement and follow local codes and licensed professional practice.",
+)
+
+
+def hydration_parameters(mix: MixIn) -> tuple[HydrationParameters, str]:
+    """Hydration parameters given in the request, or estimated from the mix; with their origin."""
+    if mix.hydration is not None:
+        return HydrationParameters(**mix.hydration.model_dump()), "given"
+    cement = (CementComposition(**mix.cement.model_dump()) if mix.cement is not None
+              else cement_preset(mix.cement_type))
+    binder = Binder(
+        cement_kg_m3=mix.cement_kg_m3, fly_ash_kg_m3=mix.fly_ash_kg_m3,
+        slag_kg_m3=mix.slag_kg_m3, water_kg_m3=mix.water_kg_m3, cement=cement,
+        fly_ash_cao_fraction=mix.fly_ash_cao_pct / 100.0,
+    )
+    origin = "estimated (Schindler & Folliard 2005) from " + (
+        "the given cement composition" if mix.cement is not None else f"preset {mix.cement_type}"
+    )
+    return estimate_hydration(binder), origin
+
+
+def concrete_from(mix: MixIn) -> tuple[Concrete, str]:
+    """Model concrete from the request's mix, with the origin of its hydration parameters."""
+    hydration, origin = hydration_parameters(mix)
+    binder = mix.cement_kg_m3 + mix.fly_ash_kg_m3 + mix.slag_kg_m3
+    aggregate = mix.aggregate_kg_m3
+    if aggregate is None:
+        total = mix.density_kg_m3 or DEFAULT_DENSITY_KG_M3
+        aggregate = max(total - binder - mix.water_kg_m3, 0.0)
+    concrete = Concrete(
+        cementitious_kg_m3=binder, hydration=hydration,
+        masses=MixMasses(binder, aggregate, mix.water_kg_m3),
+        hardened_conductivity_w_mk=mix.hardened_conductivity_w_mk,
+        density_kg_m3=mix.density_kg_m3, specific_heat_j_kgk=mix.specific_heat_j_kgk,
+        conductivity_w_mk=mix.conductivity_w_mk,
+    )
+    return concrete, origin
+
+
+def _face(face: FaceIn) -> Face:
+    return Face(**face.model_dump())
+
+
+def _hourly(value: float | list[float] | None) -> float | tuple[float, ...]:
+    return tuple(value) if isinstance(value, list) else float(value or 0.0)
+
+
+def scenario_from(request: ScenarioIn, resolution: Resolution | None = None) -> tuple[Scenario, str]:
+    """Model scenario from a validated request; with the origin of the hydration parameters."""
+    el = request.element
+    if el.shape == "slab":
+        element = Element("slab", height_m=el.thickness_m)
+    elif el.shape == "section":
+        element = Element("section", height_m=el.height_m, width_m=el.width_m)
+    else:
+        element = Element("block", height_m=el.height_m, width_m=el.width_m, length_m=el.length_m)
+    faces_in = request.faces
+    faces: dict[str, Face] = {}
+    for name in element.face_names():
+        given = getattr(faces_in, name)
+        if given is None and name not in ("top", "bottom"):
+            given = faces_in.sides
+        if given is not None:
+            faces[name] = _face(given)
+    amb = request.ambient
+    ambient = Ambient(
+        air_c=_hourly(amb.air_temperature_c), daily_min_c=amb.daily_min_c,
+        daily_max_c=amb.daily_max_c, wind_m_s=_hourly(amb.wind_m_s),
+        solar_w_m2=_hourly(amb.solar_w_m2), solar_peak_w_m2=amb.solar_peak_w_m2,
+        placement_clock_h=request.placement.clock_hour,
+    )
+    concrete, origin = concrete_from(request.mix)
+    ground = Ground(**request.ground.model_dump()) if request.ground is not None else None
+    scenario = Scenario(
+        element=element, concrete=concrete, ambient=ambient, faces=faces,
+        placement_c=request.placement.temperature_c, duration_h=request.duration_h,
+        output_interval_h=request.output_interval_h, ground=ground,
+        sensors=tuple(Sensor(s.id, s.depth_m, s.x_m, s.y_m) for s in request.sensors),
+        near_surface_depth_m=request.near_surface_depth_m,
+        nurse_saul_datum_c=request.nurse_saul_datum_c,
+        resolution=resolution or Resolution(),
+    )
+    return scenario, origin
+
+
+def _rounded(values: np.ndarray, digits: int = 3) -> list[float]:
+    return [round(float(v), digits) for v in values]
+
+
+def limit_status(value: float, limit: float, time_h: np.ndarray, series: np.ndarray) -> dict:
+    """Whether a limit is met, the margin (limit minus worst value) and when it is first exceeded."""
+    over = np.flatnonzero(series > limit)
+    return {
+        "limit": limit,
+        "met": bool(value <= limit),
+        "margin": round(limit - value, 3),
+        "first_exceeded_h": float(time_h[over[0]]) if over.size else None,
+    }
+
+
+def forecast_json(
+    request: ScenarioIn, scenario: Scenario, result: Forecast, hydration_origin: str
+) -> dict[str, Any]:
+    """The JSON body of a forecast response."""
+    s = result.summary
+    limits = request.limits
+    summary = {
+        "peak_temperature_c": round(s.peak_temperature_c, 3),
+        "peak_time_h": round(s.peak_time_h, 3),
+        "max_differential_c": round(s.max_differential_c, 3),
+        "max_differential_time_h": round(s.max_differential_time_h, 3),
+        "max_spread_c": round(s.max_spread_c, 3),
+        "max_spread_time_h": round(s.max_spread_time_h, 3),
+        "min_surface_temperature_c": round(s.min_surface_temperature_c, 3),
+        "final_core_equivalent_age_h": round(s.final_core_equivalent_age_h, 2),
+        "final_surface_equivalent_age_h": round(s.final_surface_equivalent_age_h, 2),
+        "limits": {
+            "max_temperature_c": limit_status(
+                s.peak_temperature_c, limits.max_temperature_c, result.time_h, result.core_c),
+            "max_differential_c": limit_status(
+                s.max_differential_c, limits.max_differential_c, result.time_h,
+                result.differential_c),
+        },
+    }
+    series = {
+        "time_h": _rounded(result.time_h, 4),
+        "core_c": _rounded(result.core_c),
+        "surface_c": _rounded(result.surface_c),
+        "differential_c": _rounded(result.differential_c),
+        "coolest_c": _rounded(result.coolest_c),
+        "spread_c": _rounded(result.spread_c),
+        "air_c": _rounded(result.air_c),
+        "core_equivalent_age_h": _rounded(result.core_equivalent_age_h, 2),
+        "surface_equivalent_age_h": _rounded(result.surface_equivalent_age_h, 2),
+        "core_degree_of_hydration": _rounded(result.core_degree_of_hydration, 4),
+        "core_nurse_saul_ch": _rounded(result.core_nurse_saul_ch, 1),
+        "surface_nurse_saul_ch": _rounded(result.surface_nurse_saul_ch, 1),
+        "faces_c": {name: _rounded(v) for name, v in result.faces_c.items()},
+        "sensors": {name: _rounded(v) for name, v in result.sensors_c.items()},
+    }
+    return {
+        "summary": summary,
+        "series": series,
+        "cautions": list(CAUTIONS),
+        "hydration": {"origin": hydration_origin, **asdict(scenario.concrete.hydration)},
+        "numerics": {
+            "cells": result.cells,
+            "steps": result.steps,
+            "energy_imbalance": float(f"{result.energy.relative_imbalance:.3g}"),
+        },
+    }
+
+
+CSV_COLUMNS = (
+    "time_h", "core_c", "surface_c", "differential_c", "coolest_c", "spread_c", "air_c",
+    "core_equivalent_age_h", "surface_equivalent_age_h", "core_degree_of_hydration",
+)
+
+
+def forecast_csv(body: dict[str, Any]) -> str:
+    """The series of a forecast body as CSV, one row per reported time; sensors as extra columns."""
+    series = body["series"]
+    sensors = series["sensors"]
+    out = io.StringIO()
+    writer = csv.writer(out, lineterminator="\n")
+    writer.writerow([*CSV_COLUMNS, *(f"sensor_{name}_c" for name in sensors)])
+    for i in range(len(series["time_h"])):
+        writer.writerow([series[c][i] for c in CSV_COLUMNS] + [v[i] for v in sensors.values()])
+    return out.getvalue()
