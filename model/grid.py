@@ -20,14 +20,19 @@ _SAMPLES_PER_AXIS = 20001
 
 
 def graded_edges(
-    length_m: float, fine_low: bool, fine_high: bool, resolution: Resolution, min_cells: int = 4
+    length_m: float, fine_low: bool, fine_high: bool, resolution: Resolution, min_cells: int = 4,
+    max_cell_m: float | None = None,
 ) -> NDArray[np.float64]:
     """Cell edges from 0 to ``length_m``, small at the fine ends and growing inward [m].
 
     The target cell size at distance d from the nearest fine end is
     ``min(max_cell, surface_cell + (growth - 1) d)``, the continuous form of a geometric
     progression; edges are placed so each cell spans one unit of the integral of 1/size.
+    ``max_cell`` is ``max_cell_m`` if given, else the smaller of the resolution's largest cell
+    and ``length_m / resolution.min_cells_across``.
     """
+    if max_cell_m is None:
+        max_cell_m = min(resolution.max_cell_m, length_m / resolution.min_cells_across)
     x = np.linspace(0.0, length_m, _SAMPLES_PER_AXIS)
     distance = np.full_like(x, np.inf)
     if fine_low:
@@ -35,7 +40,7 @@ def graded_edges(
     if fine_high:
         distance = np.minimum(distance, length_m - x)
     size = np.minimum(
-        resolution.max_cell_m, resolution.surface_cell_m + (resolution.growth - 1.0) * distance
+        max_cell_m, resolution.surface_cell_m + (resolution.growth - 1.0) * distance
     )
     density = 1.0 / size
     cumulative = np.concatenate([[0.0], np.cumsum(0.5 * (density[1:] + density[:-1]) * np.diff(x))])
@@ -84,6 +89,12 @@ class Domain:
         return wx[:, None, None] * wy[None, :, None] * wz[None, None, :]
 
 
+def _ground_edges(length_m: float, resolution: Resolution) -> NDArray[np.float64]:
+    """Ground cells, fine next to the element (at 0) and coarser away from it [m]."""
+    return graded_edges(length_m, True, False, resolution, 2,
+                        resolution.max_cell_m * resolution.ground_cell_factor)
+
+
 def _plan_axis(
     size_m: float | None, low_face: str, high_face: str, scenario: Scenario, margin_m: float
 ) -> tuple[NDArray[np.float64], tuple[int, int], bool, float]:
@@ -99,7 +110,7 @@ def _plan_axis(
         origin = -size_m / 2.0
         parts = [concrete]
         if has_ground:
-            parts.append(size_m / 2.0 + graded_edges(margin_m, True, False, res, 2)[1:])
+            parts.append(size_m / 2.0 + _ground_edges(margin_m, res)[1:])
         edges = np.concatenate(parts)
         return edges, (0, concrete.size - 1), True, origin
     concrete = graded_edges(
@@ -107,7 +118,7 @@ def _plan_axis(
     )
     if not has_ground:
         return concrete, (0, concrete.size - 1), False, 0.0
-    margin = graded_edges(margin_m, True, False, res, 2)
+    margin = _ground_edges(margin_m, res)
     left = margin_m - margin[::-1]
     edges = np.concatenate([left, margin_m + concrete[1:], margin_m + size_m + margin[1:]])
     start = left.size - 1
@@ -127,7 +138,8 @@ def build_domain(scenario: Scenario) -> Domain:
     if ground is None:
         ez, cz = concrete_z, (0, concrete_z.size - 1)
     else:
-        below = graded_edges(ground.depth_m, False, True, res, 2) - ground.depth_m
+        below = _ground_edges(ground.depth_m, res)[::-1]
+        below = -below
         ez = np.concatenate([below, concrete_z[1:]])
         cz = (below.size - 1, ez.size - 1)
     material = np.zeros((ex.size - 1, ey.size - 1, ez.size - 1), dtype=np.int8)

@@ -66,7 +66,8 @@ class Forecast:
     """Temperature forecast of a placement, on the reporting times.
 
     Series attributes are arrays on ``time_h`` [h]; temperatures in C, equivalent ages in h,
-    Nurse-Saul factors in C h, degrees of hydration dimensionless.
+    Nurse-Saul factors in C h, degrees of hydration dimensionless. ``every_step`` holds
+    time_h, core_c, surface_c and differential_c at every solver step, the data of the summary.
     """
 
     time_h: NDArray[np.float64]
@@ -87,6 +88,13 @@ class Forecast:
     energy: EnergyBalance
     steps: int
     cells: int
+    every_step: dict[str, NDArray[np.float64]]
+
+    def first_time_above_h(self, quantity: str, limit: float) -> float | None:
+        """First solver time at which ``quantity`` ("core_c", "surface_c" or "differential_c")
+        exceeds ``limit``, over every step [h]; None if it never does."""
+        over = np.flatnonzero(self.every_step[quantity] > limit)
+        return float(self.every_step["time_h"][over[0]]) if over.size else None
 
 
 def time_of_max(time_h: NDArray[np.float64], values: NDArray[np.float64]) -> tuple[float, float]:

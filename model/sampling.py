@@ -1,8 +1,7 @@
 """Point values inside the concrete: near-surface inset layers and sensors, by linear interpolation.
 
-Values are interpolated between cell centres (not read off the nearest cell). Between the last
-centre and a face, the field is extrapolated linearly from the two nearest centres, or held
-constant toward an adiabatic face (zero gradient there). Every sample is a fixed linear
+Values are interpolated between cell centres (not read off the nearest cell), see
+:func:`axis_weights` for the treatment between the last centre and a face. Every sample is a fixed linear
 combination of cell temperatures, so all samples are one sparse matrix product per step.
 """
 
@@ -19,28 +18,39 @@ _AXIS_FACES = (("left", "right"), ("front", "back"), ("bottom", "top"))
 
 
 def axis_weights(
-    coordinate_m: float, centres_m: NDArray[np.float64], hold_low: bool, hold_high: bool
+    coordinate_m: float, centres_m: NDArray[np.float64],
+    adiabatic_low_m: float | None, adiabatic_high_m: float | None,
 ) -> list[tuple[int, float]]:
-    """Linear-interpolation weights of a coordinate on a line of cell centres.
+    """Interpolation weights of a coordinate on a line of cell centres.
 
     Parameters
     ----------
     coordinate_m : where to interpolate [m]
     centres_m : increasing cell centre coordinates [m]
-    hold_low, hold_high : beyond the first (last) centre, hold the value (adiabatic face) instead
-        of extrapolating linearly
+    adiabatic_low_m, adiabatic_high_m : position of an adiabatic face (or symmetry plane) at the
+        low (high) end [m], None where the face exchanges heat
 
     Returns
     -------
     (index, weight) pairs summing to 1.
+
+    Notes
+    -----
+    Between centres: linear. Between the last centre and a face that exchanges heat: linear
+    extrapolation of the two nearest centres. Toward an adiabatic face: the even quadratic
+    ``T = a + b (x - x_face)^2`` through the two nearest centres, which has zero gradient at the
+    face; both are second-order accurate.
     """
     c = centres_m
     if c.size == 1:
         return [(0, 1.0)]
-    if coordinate_m <= c[0] and hold_low:
-        return [(0, 1.0)]
-    if coordinate_m >= c[-1] and hold_high:
-        return [(c.size - 1, 1.0)]
+    ends = ((adiabatic_low_m, 0, 1, coordinate_m < c[0]),
+            (adiabatic_high_m, c.size - 1, c.size - 2, coordinate_m > c[-1]))
+    for face, near, far, beyond in ends:
+        if face is not None and beyond:
+            s = ((coordinate_m - face) ** 2 - (c[near] - face) ** 2) / (
+                (c[far] - face) ** 2 - (c[near] - face) ** 2)
+            return [(near, 1.0 - s), (far, s)]
     i = int(np.clip(np.searchsorted(c, coordinate_m) - 1, 0, c.size - 2))
     w = (coordinate_m - c[i]) / (c[i + 1] - c[i])
     return [(i, 1.0 - w), (i + 1, w)]
@@ -53,7 +63,8 @@ class Sampler:
     Attributes
     ----------
     matrix : sparse (n_samples, n_solid_cells) interpolation matrix
-    face_rows : per exposed face name, the rows of its inset-layer samples
+    face_rows : per exposed face name, the rows of its inset-layer samples (a face cut away by
+        symmetry shares the rows of its mirror image)
     sensor_rows : per sensor id, its row
     """
 
@@ -112,9 +123,10 @@ def build_sampler(scenario: Scenario, domain: Domain, solid_numbering: NDArray[n
     centres = _concrete_axes(domain)
     bounds = _concrete_bounds(domain)
     exposed = exposed_faces(scenario, domain)
-    hold = [
-        (axis < 2 and domain.mirrored[axis] or _is_adiabatic(scenario, _AXIS_FACES[axis][0]),
-         _is_adiabatic(scenario, _AXIS_FACES[axis][1]))
+    adiabatic_ends = [
+        (bounds[axis][0] if (axis < 2 and domain.mirrored[axis])
+         or _is_adiabatic(scenario, _AXIS_FACES[axis][0]) else None,
+         bounds[axis][1] if _is_adiabatic(scenario, _AXIS_FACES[axis][1]) else None)
         for axis in range(3)
     ]
     inset = scenario.near_surface_depth_m
@@ -141,6 +153,10 @@ def build_sampler(scenario: Scenario, domain: Domain, solid_numbering: NDArray[n
         grid = np.stack(np.meshgrid(*lines, indexing="ij"), axis=-1).reshape(-1, 3)
         face_rows[name] = np.arange(len(points), len(points) + grid.shape[0])
         points.extend(map(tuple, grid))
+    for axis in (0, 1):
+        low, high = _AXIS_FACES[axis]
+        if domain.mirrored[axis] and high in face_rows:
+            face_rows[low] = face_rows[high]  # the mirror image of the meshed half
     sensor_rows: dict[str, int] = {}
     for sensor in scenario.sensors:
         sensor_rows[sensor.id] = len(points)
@@ -152,7 +168,7 @@ def build_sampler(scenario: Scenario, domain: Domain, solid_numbering: NDArray[n
         per_axis = []
         for axis in range(3):
             start = domain.concrete[axis][0]
-            weights = axis_weights(point[axis], centres[axis], *hold[axis])
+            weights = axis_weights(point[axis], centres[axis], *adiabatic_ends[axis])
             per_axis.append([(start + i, w) for i, w in weights])
         for ix, wx in per_axis[0]:
             for iy, wy in per_axis[1]:

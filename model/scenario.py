@@ -142,6 +142,8 @@ class Resolution:
     surface_cell_m : cell size at an exposed face [m]
     growth : cell size growth per cell away from exposed faces [-]
     max_cell_m : largest cell [m]
+    min_cells_across : the largest cell is also at most the element dimension over this [-]
+    ground_cell_factor : the largest ground cell is this multiple of ``max_cell_m`` [-]
     max_step_h : largest time step [h]
     first_step_h : first step, and the step after a sudden change at a face [h]
     alpha_change : target largest change of degree of hydration per step [-]
@@ -150,7 +152,9 @@ class Resolution:
 
     surface_cell_m: float = 0.02
     growth: float = 1.2
-    max_cell_m: float = 0.15
+    max_cell_m: float = 0.10
+    min_cells_across: float = 16.0
+    ground_cell_factor: float = 3.0
     max_step_h: float = 1.0
     first_step_h: float = 0.05
     alpha_change: float = 0.004
@@ -162,6 +166,8 @@ class Resolution:
             surface_cell_m=self.surface_cell_m / factor,
             growth=1.0 + (self.growth - 1.0) / factor,
             max_cell_m=self.max_cell_m / factor,
+            min_cells_across=self.min_cells_across * factor,
+            ground_cell_factor=self.ground_cell_factor,
             max_step_h=self.max_step_h / factor,
             first_step_h=self.first_step_h / factor,
             alpha_change=self.alpha_change / factor,

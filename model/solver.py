@@ -380,6 +380,8 @@ class _Recorder:
             core_nurse_saul_ch=core_ns[keep], surface_nurse_saul_ch=surface_ns[keep],
             summary=summary, energy=energy, steps=time.size - 1,
             cells=self.solver.network.size,
+            every_step={"time_h": time, "core_c": core, "surface_c": surface,
+                        "differential_c": differential},
         )
 
 

@@ -112,14 +112,14 @@ def _rounded(values: np.ndarray, digits: int = 3) -> list[float]:
     return [round(float(v), digits) for v in values]
 
 
-def limit_status(value: float, limit: float, time_h: np.ndarray, series: np.ndarray) -> dict:
-    """Whether a limit is met, the margin (limit minus worst value) and when it is first exceeded."""
-    over = np.flatnonzero(series > limit)
+def limit_status(result: Forecast, quantity: str, worst: float, limit: float) -> dict:
+    """Whether a limit is met, the margin (limit minus worst value) and when it is first
+    exceeded; all three from every solver step."""
     return {
         "limit": limit,
-        "met": bool(value <= limit),
-        "margin": round(limit - value, 3),
-        "first_exceeded_h": float(time_h[over[0]]) if over.size else None,
+        "met": bool(worst <= limit),
+        "margin": round(limit - worst, 3),
+        "first_exceeded_h": result.first_time_above_h(quantity, limit),
     }
 
 
@@ -141,10 +141,9 @@ def forecast_json(
         "final_surface_equivalent_age_h": round(s.final_surface_equivalent_age_h, 2),
         "limits": {
             "max_temperature_c": limit_status(
-                s.peak_temperature_c, limits.max_temperature_c, result.time_h, result.core_c),
+                result, "core_c", s.peak_temperature_c, limits.max_temperature_c),
             "max_differential_c": limit_status(
-                s.max_differential_c, limits.max_differential_c, result.time_h,
-                result.differential_c),
+                result, "differential_c", s.max_differential_c, limits.max_differential_c),
         },
     }
     series = {

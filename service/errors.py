@@ -11,12 +11,11 @@ SHAPE_TAGS = ("slab", "section", "block")
 
 
 class InvalidScenario(ValueError):
-    """A scenario that validates field by field but cannot be computed; names the field."""
+    """A scenario whose fields are each valid but which cannot be computed as a whole."""
 
-    def __init__(self, field: str, message: str) -> None:
-        super().__init__(message)
-        self.field = field
-        self.message = message
+    def __init__(self, errors: list[dict[str, str]]) -> None:
+        super().__init__("; ".join(f"{e['field']}: {e['message']}" for e in errors))
+        self.errors = errors
 
 
 def problem(status: int, title: str, detail: str, errors: list[dict[str, str]] | None = None) -> Response:
@@ -27,16 +26,27 @@ def problem(status: int, title: str, detail: str, errors: list[dict[str, str]] |
     return Response(json.dumps(body), status=status, mimetype=PROBLEM_JSON)
 
 
+def _is_union_tag(part: str | int, position: int, loc: tuple) -> bool:
+    """Whether a location part names a union member rather than a field the caller wrote."""
+    if isinstance(part, int):
+        return False
+    if position == 1 and loc[0] == "element" and part in SHAPE_TAGS:
+        return True
+    return any(c in part for c in "-[")
+
+
 def validation_errors(error: ValidationError) -> list[dict[str, str]]:
-    """Pydantic errors as a list of {field, message}, the field a dotted path."""
-    out = []
+    """Pydantic errors as a list of {field, message}, the field a dotted path; the alternatives
+    of a union (a number or an hourly list, say) are merged into one entry per field."""
+    merged: dict[str, list[str]] = {}
     for e in error.errors(include_url=False):
-        loc = [str(p) for p in e["loc"]]
-        if len(loc) > 1 and loc[0] == "element" and loc[1] in SHAPE_TAGS:
-            del loc[1]  # the discriminated union's tag is not a field the caller wrote
-        path = ".".join(loc)
-        out.append({"field": path or "(body)", "message": e["msg"]})
-    return out
+        loc = e["loc"]
+        path = ".".join(str(p) for i, p in enumerate(loc) if not _is_union_tag(p, i, loc))
+        message = e["msg"].removeprefix("Value error, ")
+        messages = merged.setdefault(path or "(body)", [])
+        if message not in messages:
+            messages.append(message)
+    return [{"field": f, "message": " or ".join(m)} for f, m in merged.items()]
 
 
 def init_app(app: Flask) -> None:
@@ -50,8 +60,8 @@ def init_app(app: Flask) -> None:
 
     @app.errorhandler(InvalidScenario)
     def _uncomputable(error: InvalidScenario) -> Response:
-        return problem(422, "Invalid scenario", error.message,
-                       [{"field": error.field, "message": error.message}])
+        return problem(422, "Invalid scenario",
+                       f"{len(error.errors)} problem(s) in the scenario: see errors", error.errors)
 
     @app.errorhandler(HTTPException)
     def _http(error: HTTPException) -> Response:

@@ -1,12 +1,13 @@
 """Request schemas (pydantic v2): the forecast scenario as callers send it, in SI units.
 
 Every model forbids unknown fields and rejects NaN and infinity, so a typo or a bad number comes
-back as a 422 naming the field instead of being silently ignored.
+back as a 422 naming the field instead of being silently ignored. Checks that involve several
+fields live in :mod:`service.checks`.
 """
 
 from typing import Annotated, Literal
 
-from pydantic import BaseModel, ConfigDict, Field, model_validator
+from pydantic import BaseModel, ConfigDict, Field
 
 Positive = Annotated[float, Field(gt=0, allow_inf_nan=False)]
 NonNegative = Annotated[float, Field(ge=0, allow_inf_nan=False)]
@@ -89,18 +90,6 @@ class MixIn(Strict):
     conductivity_w_mk: Annotated[float, Field(ge=0.3, le=6, allow_inf_nan=False)] | None = None
     hardened_conductivity_w_mk: Annotated[float, Field(ge=0.3, le=6, allow_inf_nan=False)] = 2.5
 
-    @model_validator(mode="after")
-    def _binder(self) -> "MixIn":
-        binder = self.cement_kg_m3 + self.fly_ash_kg_m3 + self.slag_kg_m3
-        if binder <= 0:
-            raise ValueError("cement_kg_m3 + fly_ash_kg_m3 + slag_kg_m3 must be positive")
-        if self.hydration is None and self.cement_kg_m3 <= 0:
-            raise ValueError("estimating hydration from the mix needs cement_kg_m3 > 0")
-        wcm = self.water_kg_m3 / binder
-        if not 0.2 <= wcm <= 1.0:
-            raise ValueError(f"w/cm = {wcm:.3f} is outside 0.20 to 1.00; check water_kg_m3")
-        return self
-
 
 class PlacementIn(Strict):
     """The placement itself."""
@@ -118,20 +107,6 @@ class AmbientIn(Strict):
     wind_m_s: Annotated[float, Field(ge=0, le=60)] | HourlyNonNegative = 2.0
     solar_w_m2: Annotated[float, Field(ge=0, le=1400)] | HourlyNonNegative = 0.0
     solar_peak_w_m2: Annotated[float, Field(ge=0, le=1400)] | None = None
-
-    @model_validator(mode="after")
-    def _air(self) -> "AmbientIn":
-        daily = (self.daily_min_c is not None, self.daily_max_c is not None)
-        if any(daily) and not all(daily):
-            raise ValueError("give both daily_min_c and daily_max_c")
-        if all(daily):
-            if self.air_temperature_c is not None:
-                raise ValueError("give air_temperature_c or daily_min_c/daily_max_c, not both")
-            if self.daily_min_c > self.daily_max_c:  # type: ignore[operator]
-                raise ValueError("daily_min_c is above daily_max_c")
-        elif self.air_temperature_c is None:
-            raise ValueError("air_temperature_c (or daily_min_c and daily_max_c) is required")
-        return self
 
 
 class FaceIn(Strict):
@@ -202,18 +177,3 @@ class ScenarioIn(Strict):
     near_surface_depth_m: Annotated[float, Field(gt=0, le=0.5)] = 0.05
     nurse_saul_datum_c: Annotated[float, Field(ge=-20, le=10)] = 0.0
     limits: LimitsIn = Field(default_factory=LimitsIn)
-
-    @model_validator(mode="after")
-    def _consistency(self) -> "ScenarioIn":
-        ids = [s.id for s in self.sensors]
-        if len(ids) != len(set(ids)):
-            raise ValueError("sensor ids must be unique")
-        for name in ("air_temperature_c",):
-            value = getattr(self.ambient, name)
-            if isinstance(value, list) and len(value) < self.duration_h + 1:
-                raise ValueError(
-                    f"ambient.{name} has {len(value)} hourly values but duration_h "
-                    f"{self.duration_h:g} needs {int(self.duration_h) + 1} (hours 0 to "
-                    f"{int(self.duration_h)})"
-                )
-        return self

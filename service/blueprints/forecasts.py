@@ -5,7 +5,8 @@ from werkzeug.exceptions import BadRequest
 
 from model.solver import ConvergenceError, forecast
 from service.convert import forecast_csv, forecast_json, scenario_from
-from service.errors import InvalidScenario, problem
+from service.checks import cross_field_errors
+from service.errors import InvalidScenario
 from service.schemas import ScenarioIn
 
 bp = Blueprint("forecasts", __name__)
@@ -26,13 +27,15 @@ def create_forecast():
     if payload is None:
         raise BadRequest("the body must be a JSON object (Content-Type: application/json)")
     scenario_in = ScenarioIn.model_validate(payload)
+    problems = cross_field_errors(scenario_in)
+    if problems:
+        raise InvalidScenario(problems)
     scenario, origin = scenario_from(scenario_in)
     try:
         result = forecast(scenario)
-    except ValueError as error:
-        raise InvalidScenario("sensors", str(error)) from error
     except ConvergenceError as error:
-        return problem(422, "Forecast did not converge", str(error))
+        raise InvalidScenario([{"field": "(scenario)", "message": f"{error}; try a shorter "
+                                "output_interval_h or milder inputs"}]) from error
     body = forecast_json(scenario_in, scenario, result, origin)
     if _wants_csv():
         return Response(forecast_csv(body), mimetype="text/csv")

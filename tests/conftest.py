@@ -1,0 +1,47 @@
+"""Shared fixtures: the Flask app, its test client and the DESIGN.md contract scenario."""
+
+import copy
+
+import pytest
+
+from service.app import create_app
+
+CONTRACT_SCENARIO = {
+    "element": {"shape": "slab", "thickness_m": 2.0},
+    "mix": {
+        "cement_kg_m3": 380, "fly_ash_kg_m3": 0, "slag_kg_m3": 0,
+        "water_kg_m3": 160,
+        "hydration": {"total_heat_j_kg": 460000, "tau_h": 13.0,
+                      "beta": 0.9, "alpha_u": 0.75,
+                      "activation_energy_j_mol": 41000},
+        "density_kg_m3": 2400, "specific_heat_j_kgk": 1000,
+        "conductivity_w_mk": 2.5,
+    },
+    "placement": {"temperature_c": 20.0},
+    "ambient": {"air_temperature_c": 20.0, "wind_m_s": 2.0},
+    "faces": {
+        "top": {"insulation_r_m2k_w": 0.5},
+        "bottom": {"adiabatic": True},
+    },
+    "duration_h": 168,
+}
+"""The example request of DESIGN.md, "The part of the HTTP contract that external checks use":
+a 2.0 m slab, top insulated (R 0.5 m2K/W), bottom adiabatic, forecast for 168 h."""
+
+
+@pytest.fixture
+def app():
+    """A fresh app in testing mode."""
+    return create_app({"TESTING": True})
+
+
+@pytest.fixture
+def client(app):
+    """A test client of ``app``."""
+    return app.test_client()
+
+
+@pytest.fixture
+def contract_scenario():
+    """A fresh copy of the contract example request; tests may modify it freely."""
+    return copy.deepcopy(CONTRACT_SCENARIO)
