@@ -172,7 +172,7 @@ def estimate_hydration(binder: Binder) -> HydrationParameters:
     - ``alpha_u = 1.031 w/cm / (0.194 + w/cm) + 0.50 p_FA + 0.30 p_SLAG``, at most 1
     - ``tau = 66.78 pC3A^-0.154 pC4AF^-0.401 Blaine^-0.804 pSO3^-0.758
       exp(2.187 p_SLAG + 9.5 p_FA p_FA-CaO)`` [h]
-    - ``beta = 181.4 pC3A^0.146 pC4AF^0.227 Blaine^-0.535 pSO3^0.558 exp(-0.647 p_SLAG)``
+    - ``beta = 181.4 pC3A^0.146 pC3S^0.227 Blaine^-0.535 pSO3^0.558 exp(-0.647 p_SLAG)``
     - ``Ea = 22100 f_E pC3A^0.30 pC4AF^0.25 Blaine^0.35`` [J/mol], with
       ``f_E = 1 - 1.05 p_FA (1 - p_FA-CaO / 0.40) + 0.40 p_SLAG``.
     """
@@ -194,7 +194,7 @@ def estimate_hydration(binder: Binder) -> HydrationParameters:
         * np.exp(2.187 * p_slag + 9.5 * p_fa * p_cao)
     )
     beta = (
-        181.4 * f["c3a"] ** 0.146 * f["c4af"] ** 0.227 * blaine**-0.535 * f["so3"] ** 0.558
+        181.4 * f["c3a"] ** 0.146 * f["c3s"] ** 0.227 * blaine**-0.535 * f["so3"] ** 0.558
         * np.exp(-0.647 * p_slag)
     )
     f_e = 1.0 - 1.05 * p_fa * (1.0 - p_cao / 0.40) + 0.40 * p_slag
