@@ -150,7 +150,7 @@ class Resolution:
     temperature_change_c : target largest temperature change per step [C]
     """
 
-    surface_cell_m: float = 0.02
+    surface_cell_m: float = 0.01
     growth: float = 1.2
     max_cell_m: float = 0.10
     min_cells_across: float = 16.0
