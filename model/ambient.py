@@ -25,7 +25,10 @@ def hourly_series(time_h: ArrayLike, values: ArrayLike) -> NDArray[np.float64]:
 
 
 def daily_cycle_c(
-    time_h: ArrayLike, min_c: float, max_c: float, placement_clock_h: float,
+    time_h: ArrayLike,
+    min_c: float,
+    max_c: float,
+    placement_clock_h: float,
     warmest_clock_h: float = WARMEST_CLOCK_H,
 ) -> NDArray[np.float64]:
     """Air temperature from a daily minimum and maximum as a cosine cycle [C].
@@ -41,10 +44,13 @@ def daily_cycle_c(
 
 
 def daily_solar_w_m2(
-    time_h: ArrayLike, peak_w_m2: float, placement_clock_h: float,
-    sunrise_clock_h: float = SUNRISE_CLOCK_H, sunset_clock_h: float = SUNSET_CLOCK_H,
+    time_h: ArrayLike,
+    peak_w_m2: float,
+    placement_clock_h: float,
+    sunrise_clock_h: float = SUNRISE_CLOCK_H,
+    sunset_clock_h: float = SUNSET_CLOCK_H,
 ) -> NDArray[np.float64]:
-    """Clear-day irradiance on a horizontal face as a half sine between sunrise and sunset [W/m2]."""
+    """Clear-day irradiance on a horizontal face, a half sine from sunrise to sunset [W/m2]."""
     clock = np.mod(np.asarray(time_h, dtype=float) + placement_clock_h, 24.0)
     day = (clock - sunrise_clock_h) / (sunset_clock_h - sunrise_clock_h)
     return np.where((day > 0) & (day < 1), peak_w_m2 * np.sin(np.pi * np.clip(day, 0, 1)), 0.0)

@@ -95,8 +95,15 @@ def build_network(domain: Domain) -> Network:
         lo[axis], hi[axis] = slice(0, n - 1), slice(1, n)
         lo_t, hi_t = tuple(lo), tuple(hi)
         both = solid[lo_t] & solid[hi_t]
-        links.append((numbering[lo_t][both], numbering[hi_t][both], area[lo_t][both],
-                      half[lo_t][both], half[hi_t][both]))
+        links.append(
+            (
+                numbering[lo_t][both],
+                numbering[hi_t][both],
+                area[lo_t][both],
+                half[lo_t][both],
+                half[hi_t][both],
+            )
+        )
         for high in (False, True):
             neighbour_solid = np.zeros(mat.shape, dtype=bool)
             inner = hi_t if not high else lo_t
@@ -112,48 +119,82 @@ def build_network(domain: Domain) -> Network:
                     sel = open_face & (mat == material) & (at_edge == edge_flag)
                     if not sel.any():
                         continue
-                    label = _face_label(material, axis, high, edge_flag,
-                                        domain.mirrored[axis] if axis < 2 else False)
+                    label = _face_label(
+                        material,
+                        axis,
+                        high,
+                        edge_flag,
+                        domain.mirrored[axis] if axis < 2 else False,
+                    )
                     faces.setdefault(label, []).append((numbering[sel], area[sel], half[sel]))
 
-    link_p, link_q, link_area, half_p, half_q = (np.concatenate(parts) for parts in zip(*links))
+    link_p, link_q, link_area, half_p, half_q = (
+        np.concatenate(parts) for parts in zip(*links, strict=True)
+    )
     boundaries = {
-        label: BoundaryFaces(*(np.concatenate(parts) for parts in zip(*groups)))
+        label: BoundaryFaces(*(np.concatenate(parts) for parts in zip(*groups, strict=True)))
         for label, groups in faces.items()
     }
     return Network(
-        flat_index=np.flatnonzero(solid.ravel()), volume_m3=volume[solid],
-        is_concrete=mat[solid] == CONCRETE, link_p=link_p, link_q=link_q,
-        link_area_m2=link_area, link_half_p_m=half_p, link_half_q_m=half_q,
+        flat_index=np.flatnonzero(solid.ravel()),
+        volume_m3=volume[solid],
+        is_concrete=mat[solid] == CONCRETE,
+        link_p=link_p,
+        link_q=link_q,
+        link_area_m2=link_area,
+        link_half_p_m=half_p,
+        link_half_q_m=half_q,
         boundaries=boundaries,
     )
 
 
-def conduction_matrix(
-    network: Network, conductivity_w_mk: NDArray[np.float64],
-    boundary_conductance: dict[str, NDArray[np.float64]],
-) -> sp.csc_array:
-    """Sparse conduction matrix K [W/K] so that the net heat gain of the cells is ``-K T + g``.
-
-    Parameters
-    ----------
-    network : the conduction network
-    conductivity_w_mk : conductivity of each solid cell [W/(m K)]
-    boundary_conductance : per boundary label, the conductance of each of its faces from the cell
-        centre to the surroundings [W/K] (see :func:`boundary_conductance_w_k`)
-    """
+def link_conductance_w_k(
+    network: Network, conductivity_w_mk: NDArray[np.float64]
+) -> NDArray[np.float64]:
+    """Conductance of each internal link [W/K]: ``A / (d1/(2 k1) + d2/(2 k2))``."""
     k = conductivity_w_mk
-    g = network.link_area_m2 / (
+    return network.link_area_m2 / (
         network.link_half_p_m / k[network.link_p] + network.link_half_q_m / k[network.link_q]
     )
-    diag = np.bincount(network.link_p, g, network.size) + np.bincount(network.link_q, g, network.size)
+
+
+def conduction_diagonal_w_k(
+    network: Network,
+    link_w_k: NDArray[np.float64],
+    boundary_conductance: dict[str, NDArray[np.float64]],
+) -> NDArray[np.float64]:
+    """Diagonal of the conduction matrix K [W/K]: the sum of each cell's link and boundary
+    conductances, so that the net heat gain of the cells is ``-K T + g``."""
+    n = network.size
+    diag = np.bincount(network.link_p, link_w_k, n) + np.bincount(network.link_q, link_w_k, n)
     for label, conductance in boundary_conductance.items():
-        diag += np.bincount(network.boundaries[label].cell, conductance, network.size)
-    p, q = network.link_p, network.link_q
-    rows = np.concatenate([p, q, np.arange(network.size)])
-    cols = np.concatenate([q, p, np.arange(network.size)])
-    data = np.concatenate([-g, -g, diag])
-    return sp.csc_array((data, (rows, cols)), shape=(network.size, network.size))
+        diag += np.bincount(network.boundaries[label].cell, conductance, n)
+    return diag
+
+
+class SymmetricPattern:
+    """The fixed sparsity pattern of the network's matrices (links plus diagonal), built once;
+    each matrix is then made by placing values, without sorting or summing again."""
+
+    def __init__(self, network: Network) -> None:
+        n, links = network.size, network.link_p.size
+        rows = np.concatenate([network.link_p, network.link_q, np.arange(n)])
+        cols = np.concatenate([network.link_q, network.link_p, np.arange(n)])
+        order = sp.csr_array((np.arange(rows.size, dtype=float) + 1.0, (rows, cols)), shape=(n, n))
+        order.sort_indices()
+        self._position = order.data.astype(np.int64) - 1
+        self._indices, self._indptr = order.indices, order.indptr
+        self._links, self._shape = links, (n, n)
+
+    def matrix(
+        self, link_values: NDArray[np.float64], diagonal: NDArray[np.float64]
+    ) -> sp.csr_array:
+        """The symmetric matrix with ``link_values`` off the diagonal (at both (p, q) and (q, p))
+        and ``diagonal`` on it; being symmetric, it is its own CSC form as well."""
+        values = np.concatenate([link_values, link_values, diagonal])
+        return sp.csr_array(
+            (values[self._position], self._indices, self._indptr), shape=self._shape
+        )
 
 
 def boundary_conductance_w_k(

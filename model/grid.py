@@ -20,7 +20,11 @@ _SAMPLES_PER_AXIS = 20001
 
 
 def graded_edges(
-    length_m: float, fine_low: bool, fine_high: bool, resolution: Resolution, min_cells: int = 4,
+    length_m: float,
+    fine_low: bool,
+    fine_high: bool,
+    resolution: Resolution,
+    min_cells: int = 4,
     max_cell_m: float | None = None,
 ) -> NDArray[np.float64]:
     """Cell edges from 0 to ``length_m``, small at the fine ends and growing inward [m].
@@ -39,9 +43,7 @@ def graded_edges(
         distance = np.minimum(distance, x)
     if fine_high:
         distance = np.minimum(distance, length_m - x)
-    size = np.minimum(
-        max_cell_m, resolution.surface_cell_m + (resolution.growth - 1.0) * distance
-    )
+    size = np.minimum(max_cell_m, resolution.surface_cell_m + (resolution.growth - 1.0) * distance)
     density = 1.0 / size
     cumulative = np.concatenate([[0.0], np.cumsum(0.5 * (density[1:] + density[:-1]) * np.diff(x))])
     n_cells = max(min_cells, int(np.ceil(cumulative[-1] - 1e-9)))
@@ -91,8 +93,9 @@ class Domain:
 
 def _ground_edges(length_m: float, resolution: Resolution) -> NDArray[np.float64]:
     """Ground cells, fine next to the element (at 0) and coarser away from it [m]."""
-    return graded_edges(length_m, True, False, resolution, 2,
-                        resolution.max_cell_m * resolution.ground_cell_factor)
+    return graded_edges(
+        length_m, True, False, resolution, 2, resolution.max_cell_m * resolution.ground_cell_factor
+    )
 
 
 def _plan_axis(
@@ -128,8 +131,11 @@ def _plan_axis(
 def build_domain(scenario: Scenario) -> Domain:
     """Mesh the element (and the ground under it) of a scenario."""
     el, res, ground = scenario.element, scenario.resolution, scenario.ground
-    margin = 0.0 if ground is None else (ground.margin_m if ground.margin_m is not None
-                                         else ground.depth_m)
+    margin = (
+        0.0
+        if ground is None
+        else (ground.margin_m if ground.margin_m is not None else ground.depth_m)
+    )
     ex, cx, mx, ox = _plan_axis(el.width_m, "left", "right", scenario, margin)
     ey, cy, my, oy = _plan_axis(el.length_m, "front", "back", scenario, margin)
     top_fine = not scenario.face("top").adiabatic
@@ -145,8 +151,11 @@ def build_domain(scenario: Scenario) -> Domain:
     material = np.zeros((ex.size - 1, ey.size - 1, ez.size - 1), dtype=np.int8)
     if ground is not None:
         material[:, :, : cz[0]] = GROUND
-    material[cx[0]:cx[1], cy[0]:cy[1], cz[0]:cz[1]] = CONCRETE
+    material[cx[0] : cx[1], cy[0] : cy[1], cz[0] : cz[1]] = CONCRETE
     return Domain(
-        edges_m=(ex, ey, ez), material=material, concrete=(cx, cy, cz),
-        mirrored=(mx, my), element_origin_m=(ox, oy),
+        edges_m=(ex, ey, ez),
+        material=material,
+        concrete=(cx, cy, cz),
+        mirrored=(mx, my),
+        element_origin_m=(ox, oy),
     )

@@ -95,12 +95,17 @@ def heat_rate_w_m3(
     per second.
     """
     slope = hydration_slope_per_h(equivalent_age_h, params.tau_h, params.beta, params.alpha_u)
-    return params.total_heat_j_kg * cementitious_kg_m3 * slope * np.asarray(arrhenius_factor) / 3600.0
+    return (
+        params.total_heat_j_kg * cementitious_kg_m3 * slope * np.asarray(arrhenius_factor) / 3600.0
+    )
 
 
 def adiabatic_rise_c(
-    cementitious_kg_m3: float, total_heat_j_kg: float, alpha_u: float,
-    density_kg_m3: float, specific_heat_j_kgk: float,
+    cementitious_kg_m3: float,
+    total_heat_j_kg: float,
+    alpha_u: float,
+    density_kg_m3: float,
+    specific_heat_j_kgk: float,
 ) -> float:
     """Ultimate adiabatic temperature rise [C]: ``Hu * Cc * alpha_u / (rho * c)``."""
     return total_heat_j_kg * cementitious_kg_m3 * alpha_u / (density_kg_m3 * specific_heat_j_kgk)
@@ -138,8 +143,13 @@ class Binder:
 # Heat of complete hydration of each Bogue compound and oxide [J/g of that compound]
 # (Schindler & Folliard 2005, eq. 3, after Lerch & Bogue; from memory).
 CEMENT_HEAT_J_G = {
-    "c3s": 500.0, "c2s": 260.0, "c3a": 866.0, "c4af": 420.0,
-    "so3": 624.0, "free_cao": 1186.0, "mgo": 850.0,
+    "c3s": 500.0,
+    "c2s": 260.0,
+    "c3a": 866.0,
+    "c4af": 420.0,
+    "so3": 624.0,
+    "free_cao": 1186.0,
+    "mgo": 850.0,
 }
 SLAG_HEAT_J_G = 461.0
 """Heat of hydration of slag [J/g] (Schindler & Folliard 2005, eq. 4)."""
@@ -190,16 +200,27 @@ def estimate_hydration(binder: Binder) -> HydrationParameters:
     )
     alpha_u = min(1.0, 1.031 * wcm / (0.194 + wcm) + 0.50 * p_fa + 0.30 * p_slag)
     tau = (
-        66.78 * f["c3a"] ** -0.154 * f["c4af"] ** -0.401 * blaine**-0.804 * f["so3"] ** -0.758
+        66.78
+        * f["c3a"] ** -0.154
+        * f["c4af"] ** -0.401
+        * blaine**-0.804
+        * f["so3"] ** -0.758
         * np.exp(2.187 * p_slag + 9.5 * p_fa * p_cao)
     )
     beta = (
-        181.4 * f["c3a"] ** 0.146 * f["c3s"] ** 0.227 * blaine**-0.535 * f["so3"] ** 0.558
+        181.4
+        * f["c3a"] ** 0.146
+        * f["c3s"] ** 0.227
+        * blaine**-0.535
+        * f["so3"] ** 0.558
         * np.exp(-0.647 * p_slag)
     )
     f_e = 1.0 - 1.05 * p_fa * (1.0 - p_cao / 0.40) + 0.40 * p_slag
     activation = 22100.0 * f_e * f["c3a"] ** 0.30 * f["c4af"] ** 0.25 * blaine**0.35
     return HydrationParameters(
-        total_heat_j_kg=float(total_heat), tau_h=float(tau), beta=float(beta),
-        alpha_u=float(alpha_u), activation_energy_j_mol=float(activation),
+        total_heat_j_kg=float(total_heat),
+        tau_h=float(tau),
+        beta=float(beta),
+        alpha_u=float(alpha_u),
+        activation_energy_j_mol=float(activation),
     )

@@ -43,7 +43,9 @@ def arrhenius_factor(
     """
     t_k = np.asarray(temperature_c, dtype=float) + KELVIN_OFFSET
     tr_k = reference_c + KELVIN_OFFSET
-    return np.exp(-np.asarray(activation_energy_j_mol) / GAS_CONSTANT_J_MOLK * (1.0 / t_k - 1.0 / tr_k))
+    return np.exp(
+        -np.asarray(activation_energy_j_mol) / GAS_CONSTANT_J_MOLK * (1.0 / t_k - 1.0 / tr_k)
+    )
 
 
 def arrhenius_factor_slope(

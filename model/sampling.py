@@ -1,8 +1,9 @@
 """Point values inside the concrete: near-surface inset layers and sensors, by linear interpolation.
 
 Values are interpolated between cell centres (not read off the nearest cell), see
-:func:`axis_weights` for the treatment between the last centre and a face. Every sample is a fixed linear
-combination of cell temperatures, so all samples are one sparse matrix product per step.
+:func:`axis_weights` for the treatment between the last centre and a face. Every sample is a
+fixed linear combination of cell temperatures, so all samples are one sparse matrix product per
+step.
 """
 
 from dataclasses import dataclass
@@ -18,8 +19,10 @@ _AXIS_FACES = (("left", "right"), ("front", "back"), ("bottom", "top"))
 
 
 def axis_weights(
-    coordinate_m: float, centres_m: NDArray[np.float64],
-    adiabatic_low_m: float | None, adiabatic_high_m: float | None,
+    coordinate_m: float,
+    centres_m: NDArray[np.float64],
+    adiabatic_low_m: float | None,
+    adiabatic_high_m: float | None,
 ) -> list[tuple[int, float]]:
     """Interpolation weights of a coordinate on a line of cell centres.
 
@@ -44,12 +47,15 @@ def axis_weights(
     c = centres_m
     if c.size == 1:
         return [(0, 1.0)]
-    ends = ((adiabatic_low_m, 0, 1, coordinate_m < c[0]),
-            (adiabatic_high_m, c.size - 1, c.size - 2, coordinate_m > c[-1]))
+    ends = (
+        (adiabatic_low_m, 0, 1, coordinate_m < c[0]),
+        (adiabatic_high_m, c.size - 1, c.size - 2, coordinate_m > c[-1]),
+    )
     for face, near, far, beyond in ends:
         if face is not None and beyond:
             s = ((coordinate_m - face) ** 2 - (c[near] - face) ** 2) / (
-                (c[far] - face) ** 2 - (c[near] - face) ** 2)
+                (c[far] - face) ** 2 - (c[near] - face) ** 2
+            )
             return [(near, 1.0 - s), (far, s)]
     i = int(np.clip(np.searchsorted(c, coordinate_m) - 1, 0, c.size - 2))
     w = (coordinate_m - c[i]) / (c[i + 1] - c[i])
@@ -104,14 +110,18 @@ def exposed_faces(scenario: Scenario, domain: Domain) -> dict[str, tuple[int, bo
                 continue
             if axis < 2 and not is_high and domain.mirrored[axis]:
                 continue
-            if name == "bottom" and scenario.ground is not None:
-                exposed[name] = (axis, is_high)
-            elif not scenario.face(name).adiabatic:
+            if (
+                name == "bottom"
+                and scenario.ground is not None
+                or not scenario.face(name).adiabatic
+            ):
                 exposed[name] = (axis, is_high)
     return exposed
 
 
-def build_sampler(scenario: Scenario, domain: Domain, solid_numbering: NDArray[np.int64]) -> Sampler:
+def build_sampler(
+    scenario: Scenario, domain: Domain, solid_numbering: NDArray[np.int64]
+) -> Sampler:
     """Sample points for the near-surface layer of every exposed face and for the sensors.
 
     Parameters
@@ -124,9 +134,12 @@ def build_sampler(scenario: Scenario, domain: Domain, solid_numbering: NDArray[n
     bounds = _concrete_bounds(domain)
     exposed = exposed_faces(scenario, domain)
     adiabatic_ends = [
-        (bounds[axis][0] if (axis < 2 and domain.mirrored[axis])
-         or _is_adiabatic(scenario, _AXIS_FACES[axis][0]) else None,
-         bounds[axis][1] if _is_adiabatic(scenario, _AXIS_FACES[axis][1]) else None)
+        (
+            bounds[axis][0]
+            if (axis < 2 and domain.mirrored[axis]) or _is_adiabatic(scenario, _AXIS_FACES[axis][0])
+            else None,
+            bounds[axis][1] if _is_adiabatic(scenario, _AXIS_FACES[axis][1]) else None,
+        )
         for axis in range(3)
     ]
     inset = scenario.near_surface_depth_m
@@ -135,7 +148,10 @@ def build_sampler(scenario: Scenario, domain: Domain, solid_numbering: NDArray[n
     def inset_range(axis: int) -> tuple[float, float]:
         lo, hi = bounds[axis]
         names = _AXIS_FACES[axis]
-        return (lo + inset if names[0] in exposed else lo, hi - inset if names[1] in exposed else hi)
+        return (
+            lo + inset if names[0] in exposed else lo,
+            hi - inset if names[1] in exposed else hi,
+        )
 
     points: list[tuple[float, float, float]] = []
     face_rows: dict[str, NDArray[np.int64]] = {}

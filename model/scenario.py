@@ -8,8 +8,8 @@ from typing import Literal
 
 from model.ambient import Ambient
 from model.boundaries import CONCRETE_EMISSIVITY
-from model.maturity import NURSE_SAUL_DATUM_C
 from model.hydration import HydrationParameters
+from model.maturity import NURSE_SAUL_DATUM_C
 from model.properties import MixMasses
 
 Shape = Literal["slab", "section", "block"]
@@ -70,15 +70,19 @@ class Face:
     def resistance_m2k_w(self, time_h: float) -> float:
         """Resistance of what covers the face at a time [m2 K/W]."""
         total = 0.0
-        for r, removal in ((self.insulation_r_m2k_w, self.insulation_removal_h),
-                           (self.formwork_r_m2k_w, self.formwork_removal_h)):
+        for r, removal in (
+            (self.insulation_r_m2k_w, self.insulation_removal_h),
+            (self.formwork_r_m2k_w, self.formwork_removal_h),
+        ):
             if removal is None or time_h < removal:
                 total += r
         return total
 
     def removal_times_h(self) -> tuple[float, ...]:
         """Hours at which this face's covering changes [h]."""
-        return tuple(t for t in (self.insulation_removal_h, self.formwork_removal_h) if t is not None)
+        return tuple(
+            t for t in (self.insulation_removal_h, self.formwork_removal_h) if t is not None
+        )
 
 
 @dataclass(frozen=True)

@@ -29,7 +29,6 @@ import math
 from dataclasses import dataclass
 
 import numpy as np
-import scipy.sparse as sp
 from numpy.typing import NDArray
 
 from model.assembly import (
@@ -38,9 +37,11 @@ from model.assembly import (
     GROUND_SURFACE,
     SYMMETRY,
     Network,
+    SymmetricPattern,
     boundary_conductance_w_k,
     build_network,
-    conduction_matrix,
+    conduction_diagonal_w_k,
+    link_conductance_w_k,
 )
 from model.boundaries import (
     convection_coefficient_w_m2k,
@@ -60,7 +61,7 @@ from model.scenario import Face, Scenario
 log = logging.getLogger(__name__)
 
 NEWTON_TOLERANCE_C = 1e-6
-"""Newton iterations stop when no temperature changes by more than this [C]."""
+"""Newton iterations stop when every cell's residual, scaled by its diagonal, is below this [C]."""
 MAX_NEWTON_ITERATIONS = 12
 MAX_STEP_GROWTH = 1.5
 """Largest ratio of a step to the previous one (BDF2 is zero-stable below 1 + sqrt(2))."""
@@ -96,11 +97,14 @@ class ThermalSolver:
         numbering = np.full(self.domain.material.size, -1, dtype=np.int64)
         numbering[self.network.flat_index] = np.arange(self.network.size)
         self.sampler = build_sampler(scenario, self.domain, numbering)
+        self.pattern = SymmetricPattern(self.network)
         concrete = scenario.concrete
         self._is_concrete = self.network.is_concrete
         self._heat_j = np.where(
             self._is_concrete,
-            concrete.hydration.total_heat_j_kg * concrete.cementitious_kg_m3 * self.network.volume_m3,
+            concrete.hydration.total_heat_j_kg
+            * concrete.cementitious_kg_m3
+            * self.network.volume_m3,
             0.0,
         )
         self._faces = self._face_laws()
@@ -151,29 +155,37 @@ class ThermalSolver:
         for label, face in self._faces.items():
             faces = self.network.boundaries[label]
             if face is None:
-                out[label] = (boundary_conductance_w_k(faces, conductivity, math.inf),
-                              self.scenario.ground.deep_temperature_c)  # type: ignore[union-attr]
+                out[label] = (
+                    boundary_conductance_w_k(faces, conductivity, math.inf),
+                    self.scenario.ground.deep_temperature_c,
+                )  # type: ignore[union-attr]
                 continue
             if face.film_coefficient_w_m2k is not None:
                 film = face.film_coefficient_w_m2k
             else:
-                film = float(convection_coefficient_w_m2k(amb.wind_speed_m_s(time_h))
-                             + radiation_coefficient_w_m2k(air, face.emissivity))
+                film = float(
+                    convection_coefficient_w_m2k(amb.wind_speed_m_s(time_h))
+                    + radiation_coefficient_w_m2k(air, face.emissivity)
+                )
             u = float(surface_conductance_w_m2k(film, face.resistance_m2k_w(time_h)))
             absorbed = face.solar_absorptivity * float(amb.irradiance_w_m2(time_h))
-            out[label] = (boundary_conductance_w_k(faces, conductivity, u),
-                          float(sol_air_temperature_c(air, absorbed, film)))
+            out[label] = (
+                boundary_conductance_w_k(faces, conductivity, u),
+                float(sol_air_temperature_c(air, absorbed, film)),
+            )
         return out
 
-    def _matrix_and_load(
+    def _conduction(
         self, time_h: float, conductivity: NDArray[np.float64]
-    ) -> tuple[sp.csc_array, NDArray[np.float64], dict[str, tuple[NDArray, float]]]:
+    ) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], dict]:
+        """Link conductances and diagonal of K [W/K], boundary load g [W], boundary terms."""
         bounds = self._boundaries(time_h, conductivity)
-        k_mat = conduction_matrix(self.network, conductivity, {b: g for b, (g, _) in bounds.items()})
+        links = link_conductance_w_k(self.network, conductivity)
+        diag = conduction_diagonal_w_k(self.network, links, {b: g for b, (g, _) in bounds.items()})
         load = np.zeros(self.network.size)
         for label, (g, t_env) in bounds.items():
             load += np.bincount(self.network.boundaries[label].cell, g * t_env, self.network.size)
-        return k_mat, load, bounds
+        return links, diag, load, bounds
 
     def _heat_loss_w(self, temperature_c: NDArray[np.float64], bounds: dict) -> float:
         """Heat flow out of the domain through all faces [W]."""
@@ -188,8 +200,11 @@ class ThermalSolver:
         sc = self.scenario
         temperature = np.full(self.network.size, sc.placement_c)
         if sc.ground is not None:
-            t_ground = (sc.ground.initial_temperature_c if sc.ground.initial_temperature_c
-                        is not None else sc.ground.deep_temperature_c)
+            t_ground = (
+                sc.ground.initial_temperature_c
+                if sc.ground.initial_temperature_c is not None
+                else sc.ground.deep_temperature_c
+            )
             temperature[~self._is_concrete] = t_ground
         zeros = np.zeros(self.network.size)
         return _State(0.0, temperature, zeros.copy(), zeros.copy())
@@ -215,7 +230,8 @@ class ThermalSolver:
         gamma_s = gamma_h * _SECONDS_PER_HOUR
         time_h = state.time_h + step_h
         conductivity, capacity = self._properties(a_pred, t_pred)
-        k_mat, load, bounds = self._matrix_and_load(time_h, conductivity)
+        links, k_diag, load, bounds = self._conduction(time_h, conductivity)
+        k_mat = self.pattern.matrix(-links, k_diag)
         conc = self._is_concrete
 
         def hydration(temperature: NDArray[np.float64]):
@@ -225,26 +241,35 @@ class ThermalSolver:
             return te, alpha
 
         def jacobian(temperature: NDArray[np.float64], te: NDArray[np.float64]):
-            source = self._heat_j * gamma_h * hydration_slope_per_h(
-                te, hyd.tau_h, hyd.beta, hyd.alpha_u
-            ) * arrhenius_factor_slope(temperature, hyd.activation_energy_j_mol)
-            return factorise(sp.csc_array(sp.diags_array(capacity - source) + gamma_s * k_mat))
+            source = (
+                self._heat_j
+                * gamma_h
+                * hydration_slope_per_h(te, hyd.tau_h, hyd.beta, hyd.alpha_u)
+                * arrhenius_factor_slope(temperature, hyd.activation_energy_j_mol)
+            )
+            return factorise(
+                self.pattern.matrix(-gamma_s * links, capacity - source + gamma_s * k_diag)
+            )
 
         temperature = t_pred.copy()
         te, alpha = hydration(temperature)
+        # The diagonal of the step matrix turns a residual [J] into a temperature error [C],
+        # which decides convergence without another solve.
+        diagonal = capacity + gamma_s * k_diag
         try:
             solve = jacobian(temperature, te)
             for iteration in range(2 * MAX_NEWTON_ITERATIONS):
-                residual = (capacity * (temperature - t_hist)
-                            + gamma_s * (k_mat @ temperature - load)
-                            - self._heat_j * (alpha - a_hist))
-                delta = solve(residual)
-                temperature = temperature - delta
+                residual = (
+                    capacity * (temperature - t_hist)
+                    + gamma_s * (k_mat @ temperature - load)
+                    - self._heat_j * (alpha - a_hist)
+                )
+                if np.max(np.abs(residual / diagonal)) < NEWTON_TOLERANCE_C:
+                    break
+                temperature = temperature - solve(residual)
                 te, alpha = hydration(temperature)
                 if not np.all(np.isfinite(temperature)):
                     return None
-                if np.max(np.abs(delta)) < NEWTON_TOLERANCE_C:
-                    break
                 if iteration + 1 == MAX_NEWTON_ITERATIONS:
                     solve = jacobian(temperature, te)
             else:
@@ -261,18 +286,20 @@ class ThermalSolver:
         if not outputs or outputs[-1] < sc.duration_h - 1e-9:
             outputs.append(sc.duration_h)
         events = {
-            t for name in sc.element.face_names() for t in sc.face(name).removal_times_h()
+            t
+            for name in sc.element.face_names()
+            for t in sc.face(name).removal_times_h()
             if 0.0 < t < sc.duration_h
         }
         return sorted(set(outputs) | events), events
 
     def run(self) -> Forecast:
         """March from placement to the end of the forecast and summarise."""
-        sc, res = self.scenario, self.scenario.resolution
+        res = self.scenario.resolution
         targets, restarts = self._targets()
         state, previous = self._initial_state(), None
         conductivity, capacity = self._properties(state.alpha, state.temperature_c)
-        _, _, bounds = self._matrix_and_load(0.0, conductivity)
+        bounds = self._boundaries(0.0, conductivity)
         record = _Recorder(self)
         record.add(state, self._heat_loss_w(state.temperature_c, bounds))
         desired, last_step = res.first_step_h, math.inf
@@ -356,9 +383,12 @@ class _Recorder:
         dmax, dmax_t = time_of_max(time, differential)
         smax, smax_t = time_of_max(time, spread)
         summary = Summary(
-            peak_temperature_c=peak, peak_time_h=peak_t,
-            max_differential_c=dmax, max_differential_time_h=dmax_t,
-            max_spread_c=smax, max_spread_time_h=smax_t,
+            peak_temperature_c=peak,
+            peak_time_h=peak_t,
+            max_differential_c=dmax,
+            max_differential_time_h=dmax_t,
+            max_spread_c=smax,
+            max_spread_time_h=smax_t,
             min_surface_temperature_c=float(surface.min()),
             final_core_equivalent_age_h=float(self.core_te[-1]),
             final_surface_equivalent_age_h=float(surface_te[-1]),
@@ -369,19 +399,30 @@ class _Recorder:
         keep = np.searchsorted(time, report - 1e-9)
         keep = keep[np.isin(report, _output_times(sc.duration_h, sc.output_interval_h))]
         return Forecast(
-            time_h=time[keep], core_c=core[keep], surface_c=surface[keep],
-            differential_c=differential[keep], coolest_c=np.array(self.coolest)[keep],
-            spread_c=spread[keep], air_c=sc.ambient.air_temperature_c(time[keep]),
+            time_h=time[keep],
+            core_c=core[keep],
+            surface_c=surface[keep],
+            differential_c=differential[keep],
+            coolest_c=np.array(self.coolest)[keep],
+            spread_c=spread[keep],
+            air_c=sc.ambient.air_temperature_c(time[keep]),
             faces_c={n: v[keep] for n, v in faces.items()},
             sensors_c={s: samples[keep, row] for s, row in sampler.sensor_rows.items()},
             core_equivalent_age_h=np.array(self.core_te)[keep],
             surface_equivalent_age_h=surface_te[keep],
             core_degree_of_hydration=np.array(self.core_alpha)[keep],
-            core_nurse_saul_ch=core_ns[keep], surface_nurse_saul_ch=surface_ns[keep],
-            summary=summary, energy=energy, steps=time.size - 1,
+            core_nurse_saul_ch=core_ns[keep],
+            surface_nurse_saul_ch=surface_ns[keep],
+            summary=summary,
+            energy=energy,
+            steps=time.size - 1,
             cells=self.solver.network.size,
-            every_step={"time_h": time, "core_c": core, "surface_c": surface,
-                        "differential_c": differential},
+            every_step={
+                "time_h": time,
+                "core_c": core,
+                "surface_c": surface,
+                "differential_c": differential,
+            },
         )
 
 

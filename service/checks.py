@@ -22,20 +22,26 @@ def cross_field_errors(s: ScenarioIn) -> list[dict[str, str]]:
     else:
         wcm = mix.water_kg_m3 / binder
         if not MIN_WATER_CM_RATIO <= wcm <= MAX_WATER_CM_RATIO:
-            add("mix.water_kg_m3", f"w/cm = {wcm:.3f} is outside {MIN_WATER_CM_RATIO:.2f} to "
-                f"{MAX_WATER_CM_RATIO:.2f}")
+            add(
+                "mix.water_kg_m3",
+                f"w/cm = {wcm:.3f} is outside {MIN_WATER_CM_RATIO:.2f} to {MAX_WATER_CM_RATIO:.2f}",
+            )
     if mix.hydration is None and mix.cement_kg_m3 <= 0:
         add("mix.hydration", "give hydration parameters when the mix has no portland cement")
 
     amb = s.ambient
     daily = amb.daily_min_c is not None, amb.daily_max_c is not None
     if any(daily) and not all(daily):
-        add("ambient.daily_max_c" if daily[0] else "ambient.daily_min_c",
-            "give both daily_min_c and daily_max_c")
+        add(
+            "ambient.daily_max_c" if daily[0] else "ambient.daily_min_c",
+            "give both daily_min_c and daily_max_c",
+        )
     elif all(daily):
         if amb.air_temperature_c is not None:
-            add("ambient.air_temperature_c", "give either air_temperature_c or daily_min_c and "
-                "daily_max_c, not both")
+            add(
+                "ambient.air_temperature_c",
+                "give either air_temperature_c or daily_min_c and daily_max_c, not both",
+            )
         if amb.daily_min_c > amb.daily_max_c:  # type: ignore[operator]
             add("ambient.daily_min_c", "daily_min_c is above daily_max_c")
     elif amb.air_temperature_c is None:
@@ -44,8 +50,11 @@ def cross_field_errors(s: ScenarioIn) -> list[dict[str, str]]:
     for name in ("air_temperature_c", "wind_m_s", "solar_w_m2"):
         value = getattr(amb, name)
         if isinstance(value, list) and len(value) < needed:
-            add(f"ambient.{name}", f"{len(value)} hourly values given; duration_h "
-                f"{s.duration_h:g} needs {needed} (hour 0 to hour {needed - 1})")
+            add(
+                f"ambient.{name}",
+                f"{len(value)} hourly values given; duration_h "
+                f"{s.duration_h:g} needs {needed} (hour 0 to hour {needed - 1})",
+            )
 
     el = s.element
     ids = [sensor.id for sensor in s.sensors]
@@ -54,17 +63,23 @@ def cross_field_errors(s: ScenarioIn) -> list[dict[str, str]]:
             add(f"sensors.{i}.id", f"sensor id {sensor.id!r} is used more than once")
         height = el.thickness_m if el.shape == "slab" else el.height_m
         if sensor.depth_m > height:
-            add(f"sensors.{i}.depth_m", f"{sensor.depth_m} m is below the bottom of the "
-                f"element ({height} m thick)")
+            add(
+                f"sensors.{i}.depth_m",
+                f"{sensor.depth_m} m is below the bottom of the element ({height} m thick)",
+            )
         plan = {"x_m": getattr(el, "width_m", None), "y_m": getattr(el, "length_m", None)}
         for name, size in plan.items():
             offset = getattr(sensor, name)
             if size is None and offset != 0:
-                add(f"sensors.{i}.{name}", f"a {el.shape} has no extent along {name[0]}; "
-                    "leave it at 0")
+                add(
+                    f"sensors.{i}.{name}",
+                    f"a {el.shape} has no extent along {name[0]}; leave it at 0",
+                )
             elif size is not None and abs(offset) > size / 2:
-                add(f"sensors.{i}.{name}", f"{offset} m is outside the element "
-                    f"(within +-{size / 2:g} m of its centre)")
+                add(
+                    f"sensors.{i}.{name}",
+                    f"{offset} m is outside the element (within +-{size / 2:g} m of its centre)",
+                )
     for name in ("top", "bottom", "sides", "left", "right", "front", "back"):
         face = getattr(s.faces, name)
         if face is None:
@@ -74,6 +89,5 @@ def cross_field_errors(s: ScenarioIn) -> list[dict[str, str]]:
         if name in ("front", "back") and el.shape == "section":
             add(f"faces.{name}", "a section has top, bottom, left and right faces (or sides)")
     if s.ground is not None and s.faces.bottom is not None:
-        add("faces.bottom", "with a ground layer the bottom rests on the ground; omit "
-            "faces.bottom")
+        add("faces.bottom", "with a ground layer the bottom rests on the ground; omit faces.bottom")
     return errors

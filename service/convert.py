@@ -31,11 +31,17 @@ def hydration_parameters(mix: MixIn) -> tuple[HydrationParameters, str]:
     """Hydration parameters given in the request, or estimated from the mix; with their origin."""
     if mix.hydration is not None:
         return HydrationParameters(**mix.hydration.model_dump()), "given"
-    cement = (CementComposition(**mix.cement.model_dump()) if mix.cement is not None
-              else cement_preset(mix.cement_type))
+    cement = (
+        CementComposition(**mix.cement.model_dump())
+        if mix.cement is not None
+        else cement_preset(mix.cement_type)
+    )
     binder = Binder(
-        cement_kg_m3=mix.cement_kg_m3, fly_ash_kg_m3=mix.fly_ash_kg_m3,
-        slag_kg_m3=mix.slag_kg_m3, water_kg_m3=mix.water_kg_m3, cement=cement,
+        cement_kg_m3=mix.cement_kg_m3,
+        fly_ash_kg_m3=mix.fly_ash_kg_m3,
+        slag_kg_m3=mix.slag_kg_m3,
+        water_kg_m3=mix.water_kg_m3,
+        cement=cement,
         fly_ash_cao_fraction=mix.fly_ash_cao_pct / 100.0,
     )
     origin = "estimated (Schindler & Folliard 2005) from " + (
@@ -53,10 +59,12 @@ def concrete_from(mix: MixIn) -> tuple[Concrete, str]:
         total = mix.density_kg_m3 or DEFAULT_DENSITY_KG_M3
         aggregate = max(total - binder - mix.water_kg_m3, 0.0)
     concrete = Concrete(
-        cementitious_kg_m3=binder, hydration=hydration,
+        cementitious_kg_m3=binder,
+        hydration=hydration,
         masses=MixMasses(binder, aggregate, mix.water_kg_m3),
         hardened_conductivity_w_mk=mix.hardened_conductivity_w_mk,
-        density_kg_m3=mix.density_kg_m3, specific_heat_j_kgk=mix.specific_heat_j_kgk,
+        density_kg_m3=mix.density_kg_m3,
+        specific_heat_j_kgk=mix.specific_heat_j_kgk,
         conductivity_w_mk=mix.conductivity_w_mk,
     )
     return concrete, origin
@@ -70,7 +78,9 @@ def _hourly(value: float | list[float] | None) -> float | tuple[float, ...]:
     return tuple(value) if isinstance(value, list) else float(value or 0.0)
 
 
-def scenario_from(request: ScenarioIn, resolution: Resolution | None = None) -> tuple[Scenario, str]:
+def scenario_from(
+    request: ScenarioIn, resolution: Resolution | None = None
+) -> tuple[Scenario, str]:
     """Model scenario from a validated request; with the origin of the hydration parameters."""
     el = request.element
     if el.shape == "slab":
@@ -89,17 +99,25 @@ def scenario_from(request: ScenarioIn, resolution: Resolution | None = None) -> 
             faces[name] = _face(given)
     amb = request.ambient
     ambient = Ambient(
-        air_c=_hourly(amb.air_temperature_c), daily_min_c=amb.daily_min_c,
-        daily_max_c=amb.daily_max_c, wind_m_s=_hourly(amb.wind_m_s),
-        solar_w_m2=_hourly(amb.solar_w_m2), solar_peak_w_m2=amb.solar_peak_w_m2,
+        air_c=_hourly(amb.air_temperature_c),
+        daily_min_c=amb.daily_min_c,
+        daily_max_c=amb.daily_max_c,
+        wind_m_s=_hourly(amb.wind_m_s),
+        solar_w_m2=_hourly(amb.solar_w_m2),
+        solar_peak_w_m2=amb.solar_peak_w_m2,
         placement_clock_h=request.placement.clock_hour,
     )
     concrete, origin = concrete_from(request.mix)
     ground = Ground(**request.ground.model_dump()) if request.ground is not None else None
     scenario = Scenario(
-        element=element, concrete=concrete, ambient=ambient, faces=faces,
-        placement_c=request.placement.temperature_c, duration_h=request.duration_h,
-        output_interval_h=request.output_interval_h, ground=ground,
+        element=element,
+        concrete=concrete,
+        ambient=ambient,
+        faces=faces,
+        placement_c=request.placement.temperature_c,
+        duration_h=request.duration_h,
+        output_interval_h=request.output_interval_h,
+        ground=ground,
         sensors=tuple(Sensor(s.id, s.depth_m, s.x_m, s.y_m) for s in request.sensors),
         near_surface_depth_m=request.near_surface_depth_m,
         nurse_saul_datum_c=request.nurse_saul_datum_c,
@@ -141,9 +159,11 @@ def forecast_json(
         "final_surface_equivalent_age_h": round(s.final_surface_equivalent_age_h, 2),
         "limits": {
             "max_temperature_c": limit_status(
-                result, "core_c", s.peak_temperature_c, limits.max_temperature_c),
+                result, "core_c", s.peak_temperature_c, limits.max_temperature_c
+            ),
             "max_differential_c": limit_status(
-                result, "differential_c", s.max_differential_c, limits.max_differential_c),
+                result, "differential_c", s.max_differential_c, limits.max_differential_c
+            ),
         },
     }
     series = {
@@ -176,8 +196,16 @@ def forecast_json(
 
 
 CSV_COLUMNS = (
-    "time_h", "core_c", "surface_c", "differential_c", "coolest_c", "spread_c", "air_c",
-    "core_equivalent_age_h", "surface_equivalent_age_h", "core_degree_of_hydration",
+    "time_h",
+    "core_c",
+    "surface_c",
+    "differential_c",
+    "coolest_c",
+    "spread_c",
+    "air_c",
+    "core_equivalent_age_h",
+    "surface_equivalent_age_h",
+    "core_degree_of_hydration",
 )
 
 

@@ -10,7 +10,7 @@ PROBLEM_JSON = "application/problem+json"
 SHAPE_TAGS = ("slab", "section", "block")
 
 
-class InvalidScenario(ValueError):
+class InvalidScenarioError(ValueError):
     """A scenario whose fields are each valid but which cannot be computed as a whole."""
 
     def __init__(self, errors: list[dict[str, str]]) -> None:
@@ -18,9 +18,16 @@ class InvalidScenario(ValueError):
         self.errors = errors
 
 
-def problem(status: int, title: str, detail: str, errors: list[dict[str, str]] | None = None) -> Response:
+def problem(
+    status: int, title: str, detail: str, errors: list[dict[str, str]] | None = None
+) -> Response:
     """A problem-details response."""
-    body: dict[str, Any] = {"type": "about:blank", "title": title, "status": status, "detail": detail}
+    body: dict[str, Any] = {
+        "type": "about:blank",
+        "title": title,
+        "status": status,
+        "detail": detail,
+    }
     if errors is not None:
         body["errors"] = errors
     return Response(json.dumps(body), status=status, mimetype=PROBLEM_JSON)
@@ -55,13 +62,18 @@ def init_app(app: Flask) -> None:
     @app.errorhandler(ValidationError)
     def _invalid(error: ValidationError) -> Response:
         errors = validation_errors(error)
-        return problem(422, "Invalid scenario",
-                       f"{len(errors)} field(s) are invalid: see errors", errors)
+        return problem(
+            422, "Invalid scenario", f"{len(errors)} field(s) are invalid: see errors", errors
+        )
 
-    @app.errorhandler(InvalidScenario)
-    def _uncomputable(error: InvalidScenario) -> Response:
-        return problem(422, "Invalid scenario",
-                       f"{len(error.errors)} problem(s) in the scenario: see errors", error.errors)
+    @app.errorhandler(InvalidScenarioError)
+    def _uncomputable(error: InvalidScenarioError) -> Response:
+        return problem(
+            422,
+            "Invalid scenario",
+            f"{len(error.errors)} problem(s) in the scenario: see errors",
+            error.errors,
+        )
 
     @app.errorhandler(HTTPException)
     def _http(error: HTTPException) -> Response:

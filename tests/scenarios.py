@@ -11,14 +11,22 @@ CONTRACT_HYDRATION = HydrationParameters(460000.0, 13.0, 0.9, 0.75, 41000.0)
 NO_HEAT = HydrationParameters(0.0, 13.0, 0.9, 0.75, 41000.0)
 
 
-def concrete(hydration: HydrationParameters = CONTRACT_HYDRATION, constant: bool = True) -> Concrete:
+def concrete(
+    hydration: HydrationParameters = CONTRACT_HYDRATION, constant: bool = True
+) -> Concrete:
     """The DESIGN.md example concrete (380 kg/m3 binder); fixed properties unless ``constant``
     is False (then hydration-dependent conductivity and Van Breugel specific heat)."""
     masses = MixMasses(380.0, 1860.0, 160.0)
     if not constant:
         return Concrete(380.0, hydration, masses, hardened_conductivity_w_mk=CONDUCTIVITY)
-    return Concrete(380.0, hydration, masses, density_kg_m3=DENSITY,
-                    specific_heat_j_kgk=SPECIFIC_HEAT, conductivity_w_mk=CONDUCTIVITY)
+    return Concrete(
+        380.0,
+        hydration,
+        masses,
+        density_kg_m3=DENSITY,
+        specific_heat_j_kgk=SPECIFIC_HEAT,
+        conductivity_w_mk=CONDUCTIVITY,
+    )
 
 
 def slab(thickness_m: float, faces: dict[str, Face], **kwargs) -> Scenario:
@@ -35,6 +43,12 @@ def depth_sensors(depths_m: list[float], x_m: float = 0.0, y_m: float = 0.0) -> 
 
 def uniform(cell_m: float, step_h: float) -> Resolution:
     """A uniform grid with fixed time steps (for order-of-convergence studies)."""
-    return Resolution(surface_cell_m=cell_m, growth=1.0, max_cell_m=cell_m, max_step_h=step_h,
-                      first_step_h=step_h, alpha_change=1e9, temperature_change_c=1e9)
-
+    return Resolution(
+        surface_cell_m=cell_m,
+        growth=1.0,
+        max_cell_m=cell_m,
+        max_step_h=step_h,
+        first_step_h=step_h,
+        alpha_change=1e9,
+        temperature_change_c=1e9,
+    )

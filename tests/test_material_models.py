@@ -41,8 +41,10 @@ def test_degree_of_hydration_at_tau_is_alpha_u_over_e():
 def test_hydration_slope_is_the_derivative():
     te = np.array([2.0, 10.0, 40.0, 300.0])
     step = 1e-5
-    numeric = (degree_of_hydration(te + step, 13.0, 0.9, 0.75)
-               - degree_of_hydration(te - step, 13.0, 0.9, 0.75)) / (2 * step)
+    numeric = (
+        degree_of_hydration(te + step, 13.0, 0.9, 0.75)
+        - degree_of_hydration(te - step, 13.0, 0.9, 0.75)
+    ) / (2 * step)
     assert hydration_slope_per_h(te, 13.0, 0.9, 0.75) == pytest.approx(numeric, rel=1e-6)
 
 

@@ -68,8 +68,12 @@ def test_contract_example(client, contract_scenario):
     body = response.get_json()
 
     summary = body["summary"]
-    for key in ("peak_temperature_c", "peak_time_h", "max_differential_c",
-                "max_differential_time_h"):
+    for key in (
+        "peak_temperature_c",
+        "peak_time_h",
+        "max_differential_c",
+        "max_differential_time_h",
+    ):
         assert isinstance(summary[key], float | int), key
     assert 0 <= summary["peak_time_h"] <= 168
     assert 0 <= summary["max_differential_time_h"] <= 168
@@ -80,8 +84,9 @@ def test_contract_example(client, contract_scenario):
     assert time_h[0] == 0
     assert time_h[-1] == 168
     assert time_h == pytest.approx([float(h) for h in range(169)])
-    for core, surface, diff in zip(series["core_c"], series["surface_c"],
-                                   series["differential_c"], strict=True):
+    for core, surface, diff in zip(
+        series["core_c"], series["surface_c"], series["differential_c"], strict=True
+    ):
         assert diff == pytest.approx(core - surface, abs=ROUNDING_C)
     assert max(series["core_c"]) <= summary["peak_temperature_c"] + ROUNDING_C
     assert max(series["differential_c"]) <= summary["max_differential_c"] + ROUNDING_C
@@ -100,8 +105,9 @@ def test_contract_example(client, contract_scenario):
         ("max_differential_c", "max_differential_c", "differential_c", 19.0),
     ],
 )
-def test_contract_limits_match_series(client, contract_scenario, limit_key, value_key,
-                                      series_key, default):
+def test_contract_limits_match_series(
+    client, contract_scenario, limit_key, value_key, series_key, default
+):
     body = client.post(URL, json=contract_scenario).get_json()
     summary, series = body["summary"], body["series"]
     status = summary["limits"][limit_key]
@@ -293,8 +299,7 @@ INVALID = [
     ("unknown-top-level-field", _set("colour", "grey"), "colour"),
     ("unknown-face-field", _set("faces.top.colour", "grey"), "faces.top.colour"),
     ("w-cm-too-low", _set("mix.water_kg_m3", 20), "mix.water_kg_m3"),
-    ("sensor-below-bottom", _set("sensors", [{"id": "S1", "depth_m": 5.0}]),
-     "sensors.0.depth_m"),
+    ("sensor-below-bottom", _set("sensors", [{"id": "S1", "depth_m": 5.0}]), "sensors.0.depth_m"),
     ("missing-placement", _delete("placement"), "placement"),
     ("negative-wind", _set("ambient.wind_m_s", -1.0), "ambient.wind_m_s"),
     ("nan-wind", _set("ambient.wind_m_s", float("nan")), "ambient.wind_m_s"),
@@ -302,9 +307,7 @@ INVALID = [
 ]
 
 
-
-@pytest.mark.parametrize(("mutate", "field"),
-                         [pytest.param(m, f, id=i) for i, m, f in INVALID])
+@pytest.mark.parametrize(("mutate", "field"), [pytest.param(m, f, id=i) for i, m, f in INVALID])
 def test_invalid_scenario_is_422_problem(client, contract_scenario, mutate, field):
     scenario = short(contract_scenario)
     mutate(scenario)
@@ -323,9 +326,14 @@ def test_invalid_scenario_is_422_problem(client, contract_scenario, mutate, fiel
     ("mutate", "field"),
     [
         pytest.param(m, f, id=i)
-        for i, m, f in [*INVALID, ("short-hourly-air",
-                                   _set("ambient.air_temperature_c", [20.0] * 10),
-                                   "ambient.air_temperature_c")]
+        for i, m, f in [
+            *INVALID,
+            (
+                "short-hourly-air",
+                _set("ambient.air_temperature_c", [20.0] * 10),
+                "ambient.air_temperature_c",
+            ),
+        ]
     ],
 )
 def test_invalid_scenario_names_exact_field(client, contract_scenario, mutate, field):
