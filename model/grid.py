@@ -62,14 +62,12 @@ class Domain:
     material : cell material, shape (nx, ny, nz), VOID / CONCRETE / GROUND
     concrete : index ranges (start, stop) of the concrete block along x, y, z
     mirrored : per axis, whether only half is meshed (the low end is a symmetry plane)
-    element_origin_m : domain coordinates of the element's low corner on x and y [m]
     """
 
     edges_m: tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]
     material: NDArray[np.int8]
     concrete: tuple[tuple[int, int], tuple[int, int], tuple[int, int]]
     mirrored: tuple[bool, bool]
-    element_origin_m: tuple[float, float]
 
     @property
     def shape(self) -> tuple[int, int, int]:
@@ -100,62 +98,73 @@ def _ground_edges(length_m: float, resolution: Resolution) -> NDArray[np.float64
 
 def _plan_axis(
     size_m: float | None, low_face: str, high_face: str, scenario: Scenario, margin_m: float
-) -> tuple[NDArray[np.float64], tuple[int, int], bool, float]:
-    """Edges of one plan axis: (edges, concrete index range, mirrored, element origin)."""
+) -> tuple[NDArray[np.float64], tuple[int, int], bool]:
+    """Edges of one plan axis: (edges, concrete index range, mirrored)."""
     if size_m is None:
-        return np.array([0.0, 1.0]), (0, 1), False, 0.0
-    res = scenario.resolution
+        return np.array([0.0, 1.0]), (0, 1), False
+    res = scenario.settings
     low, high = scenario.face(low_face), scenario.face(high_face)
     mirrored = low == high
     has_ground = scenario.ground is not None
     if mirrored:
         concrete = graded_edges(size_m / 2.0, False, not high.adiabatic or has_ground, res)
-        origin = -size_m / 2.0
         parts = [concrete]
         if has_ground:
             parts.append(size_m / 2.0 + _ground_edges(margin_m, res)[1:])
         edges = np.concatenate(parts)
-        return edges, (0, concrete.size - 1), True, origin
+        return edges, (0, concrete.size - 1), True
     concrete = graded_edges(
         size_m, not low.adiabatic or has_ground, not high.adiabatic or has_ground, res
     )
     if not has_ground:
-        return concrete, (0, concrete.size - 1), False, 0.0
+        return concrete, (0, concrete.size - 1), False
     margin = _ground_edges(margin_m, res)
     left = margin_m - margin[::-1]
     edges = np.concatenate([left, margin_m + concrete[1:], margin_m + size_m + margin[1:]])
     start = left.size - 1
-    return edges, (start, start + concrete.size - 1), False, margin_m
+    return edges, (start, start + concrete.size - 1), False
 
 
-def build_domain(scenario: Scenario) -> Domain:
-    """Mesh the element (and the ground under it) of a scenario."""
-    el, res, ground = scenario.element, scenario.resolution, scenario.ground
-    margin = (
-        0.0
-        if ground is None
-        else (ground.margin_m if ground.margin_m is not None else ground.depth_m)
-    )
-    ex, cx, mx, ox = _plan_axis(el.width_m, "left", "right", scenario, margin)
-    ey, cy, my, oy = _plan_axis(el.length_m, "front", "back", scenario, margin)
+@dataclass(frozen=True)
+class _Axes:
+    edges_m: tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]
+    concrete: tuple[tuple[int, int], tuple[int, int], tuple[int, int]]
+    mirrored: tuple[bool, bool]
+
+
+def _axes(scenario: Scenario) -> _Axes:
+    el, res, ground = scenario.element, scenario.settings, scenario.ground
+    margin = 0.0
+    if ground is not None:
+        margin = ground.margin_m if ground.margin_m is not None else ground.depth_m
+    ex, cx, mx = _plan_axis(el.width_m, "left", "right", scenario, margin)
+    ey, cy, my = _plan_axis(el.length_m, "front", "back", scenario, margin)
     top_fine = not scenario.face("top").adiabatic
     bottom_fine = ground is not None or not scenario.face("bottom").adiabatic
     concrete_z = graded_edges(el.height_m, bottom_fine, top_fine, res)
     if ground is None:
         ez, cz = concrete_z, (0, concrete_z.size - 1)
     else:
-        below = _ground_edges(ground.depth_m, res)[::-1]
-        below = -below
+        below = -_ground_edges(ground.depth_m, res)[::-1]
         ez = np.concatenate([below, concrete_z[1:]])
         cz = (below.size - 1, ez.size - 1)
+    return _Axes((ex, ey, ez), (cx, cy, cz), (mx, my))
+
+
+def cell_count(scenario: Scenario) -> int:
+    """Number of grid cells (void included) the scenario would mesh, without meshing it."""
+    axes = _axes(scenario)
+    return int(np.prod([e.size - 1 for e in axes.edges_m]))
+
+
+def build_domain(scenario: Scenario) -> Domain:
+    """Mesh the element (and the ground under it) of a scenario."""
+    axes = _axes(scenario)
+    (ex, ey, ez), (cx, cy, cz) = axes.edges_m, axes.concrete
     material = np.zeros((ex.size - 1, ey.size - 1, ez.size - 1), dtype=np.int8)
-    if ground is not None:
+    if scenario.ground is not None:
         material[:, :, : cz[0]] = GROUND
     material[cx[0] : cx[1], cy[0] : cy[1], cz[0] : cz[1]] = CONCRETE
     return Domain(
-        edges_m=(ex, ey, ez),
-        material=material,
-        concrete=(cx, cy, cz),
-        mirrored=(mx, my),
-        element_origin_m=(ox, oy),
+        edges_m=axes.edges_m, material=material, concrete=axes.concrete, mirrored=axes.mirrored
     )

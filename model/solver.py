@@ -295,7 +295,7 @@ class ThermalSolver:
 
     def run(self) -> Forecast:
         """March from placement to the end of the forecast and summarise."""
-        res = self.scenario.resolution
+        res = self.scenario.settings
         targets, restarts = self._targets()
         state, previous = self._initial_state(), None
         conductivity, capacity = self._properties(state.alpha, state.temperature_c)

@@ -121,7 +121,7 @@ def scenario_from(
         sensors=tuple(Sensor(s.id, s.depth_m, s.x_m, s.y_m) for s in request.sensors),
         near_surface_depth_m=request.near_surface_depth_m,
         nurse_saul_datum_c=request.nurse_saul_datum_c,
-        resolution=resolution or Resolution(),
+        resolution=resolution,
     )
     return scenario, origin
 
