@@ -6,6 +6,7 @@ from flask import Flask
 
 from service import errors
 from service.blueprints import forecasts, health
+from service.forecasting import DEFAULT_MAX_CELL_STEPS
 
 DEFAULT_MAX_BODY_BYTES = 2 * 1024 * 1024
 """Largest accepted request body [bytes]."""
@@ -14,7 +15,9 @@ DEFAULT_MAX_BODY_BYTES = 2 * 1024 * 1024
 def create_app(test_config: dict[str, Any] | None = None) -> Flask:
     """Build the pourheat app; ``test_config`` overrides settings in tests."""
     app = Flask(__name__)
-    app.config.from_mapping(MAX_CONTENT_LENGTH=DEFAULT_MAX_BODY_BYTES)
+    app.config.from_mapping(
+        MAX_CONTENT_LENGTH=DEFAULT_MAX_BODY_BYTES, MAX_CELL_STEPS=DEFAULT_MAX_CELL_STEPS
+    )
     app.config.from_prefixed_env("POURHEAT")
     if test_config:
         app.config.update(test_config)

@@ -2,7 +2,7 @@
 
 import csv
 import io
-from dataclasses import asdict
+from dataclasses import asdict, replace
 from typing import Any
 
 import numpy as np
@@ -12,7 +12,16 @@ from model.cements import CementComposition, cement_preset
 from model.hydration import Binder, HydrationParameters, estimate_hydration
 from model.properties import MixMasses
 from model.results import Forecast
-from model.scenario import Concrete, Element, Face, Ground, Resolution, Scenario, Sensor
+from model.scenario import (
+    Concrete,
+    Element,
+    Face,
+    Ground,
+    Resolution,
+    Scenario,
+    Sensor,
+    default_resolution,
+)
 from service.schemas import FaceIn, MixIn, ScenarioIn
 
 DEFAULT_DENSITY_KG_M3 = 2400.0
@@ -78,9 +87,16 @@ def _hourly(value: float | list[float] | None) -> float | tuple[float, ...]:
     return tuple(value) if isinstance(value, list) else float(value or 0.0)
 
 
-def scenario_from(
-    request: ScenarioIn, resolution: Resolution | None = None
-) -> tuple[Scenario, str]:
+def resolution_from(request: ScenarioIn) -> Resolution | None:
+    """Numerical settings: the shape's defaults overridden by any given in the request."""
+    if request.resolution is None:
+        return None
+    base = default_resolution(request.element.shape)
+    given = {k: v for k, v in request.resolution.model_dump().items() if v is not None}
+    return replace(base, **given)
+
+
+def scenario_from(request: ScenarioIn) -> tuple[Scenario, str]:
     """Model scenario from a validated request; with the origin of the hydration parameters."""
     el = request.element
     if el.shape == "slab":
@@ -121,7 +137,7 @@ def scenario_from(
         sensors=tuple(Sensor(s.id, s.depth_m, s.x_m, s.y_m) for s in request.sensors),
         near_surface_depth_m=request.near_surface_depth_m,
         nurse_saul_datum_c=request.nurse_saul_datum_c,
-        resolution=resolution,
+        resolution=resolution_from(request),
     )
     return scenario, origin
 
@@ -134,9 +150,9 @@ def limit_status(result: Forecast, quantity: str, worst: float, limit: float) ->
     """Whether a limit is met, the margin (limit minus worst value) and when it is first
     exceeded; all three from every solver step."""
     return {
-        "limit": limit,
+        "limit_c": limit,
         "met": bool(worst <= limit),
-        "margin": round(limit - worst, 3),
+        "margin_c": round(limit - worst, 3),
         "first_exceeded_h": result.first_time_above_h(quantity, limit),
     }
 

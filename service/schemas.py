@@ -162,6 +162,15 @@ class LimitsIn(Strict):
     max_differential_c: Annotated[float, Field(gt=0, le=100)] = 19.0
 
 
+class ResolutionIn(Strict):
+    """Numerical settings; omitted values take the shape's defaults."""
+
+    surface_cell_m: Annotated[float, Field(ge=0.002, le=0.2)] | None = None
+    growth: Annotated[float, Field(ge=1.0, le=2.0)] | None = None
+    max_cell_m: Annotated[float, Field(ge=0.01, le=2.0)] | None = None
+    max_step_h: Annotated[float, Field(ge=0.01, le=6.0)] | None = None
+
+
 class ScenarioIn(Strict):
     """A forecast request."""
 
@@ -177,3 +186,4 @@ class ScenarioIn(Strict):
     near_surface_depth_m: Annotated[float, Field(gt=0, le=0.5)] = 0.05
     nurse_saul_datum_c: Annotated[float, Field(ge=-20, le=10)] = 0.0
     limits: LimitsIn = Field(default_factory=LimitsIn)
+    resolution: ResolutionIn | None = None
