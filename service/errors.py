@@ -2,7 +2,7 @@
 
 from typing import Any
 
-from flask import Flask, Response, json
+from flask import Flask, Response, g, json
 from pydantic import ValidationError
 from werkzeug.exceptions import HTTPException
 
@@ -56,23 +56,30 @@ def validation_errors(error: ValidationError) -> list[dict[str, str]]:
     return [{"field": f, "message": " or ".join(m)} for f, m in merged.items()]
 
 
+def _in_callers_units(errors: list[dict[str, str]]) -> list[dict[str, str]]:
+    """Field paths as the caller wrote them: US names when the request used units=us."""
+    if g.get("units") != "us":
+        return errors
+    from service.units import field_path_to_us
+
+    return [{**e, "field": field_path_to_us(e["field"])} for e in errors]
+
+
 def init_app(app: Flask) -> None:
     """Register the handlers that turn every error into problem details."""
 
     @app.errorhandler(ValidationError)
     def _invalid(error: ValidationError) -> Response:
-        errors = validation_errors(error)
+        errors = _in_callers_units(validation_errors(error))
         return problem(
             422, "Invalid scenario", f"{len(errors)} field(s) are invalid: see errors", errors
         )
 
     @app.errorhandler(InvalidScenarioError)
     def _uncomputable(error: InvalidScenarioError) -> Response:
+        errors = _in_callers_units(error.errors)
         return problem(
-            422,
-            "Invalid scenario",
-            f"{len(error.errors)} problem(s) in the scenario: see errors",
-            error.errors,
+            422, "Invalid scenario", f"{len(errors)} problem(s) in the scenario: see errors", errors
         )
 
     @app.errorhandler(HTTPException)

@@ -2,17 +2,22 @@
 
 Every model forbids unknown fields and rejects NaN and infinity, so a typo or a bad number comes
 back as a 422 naming the field instead of being silently ignored. Checks that involve several
-fields live in :mod:`service.checks`.
+fields live in :mod:`service.checks`. Descriptions and examples here are the OpenAPI contract's.
 """
 
-from typing import Annotated, Literal
+from typing import Annotated, Any, Literal
 
 from pydantic import BaseModel, ConfigDict, Field
 
-Positive = Annotated[float, Field(gt=0, allow_inf_nan=False)]
-NonNegative = Annotated[float, Field(ge=0, allow_inf_nan=False)]
+
+def F(description: str, example: Any = None, **constraints: Any) -> Any:  # noqa: N802
+    """A pydantic Field with a description (units in it) and one example."""
+    examples = None if example is None else [example]
+    return Field(description=description, examples=examples, **constraints)
+
+
 Temperature = Annotated[float, Field(ge=-60, le=120, allow_inf_nan=False)]
-Fraction = Annotated[float, Field(ge=0, le=1, allow_inf_nan=False)]
+NonNegative = Annotated[float, Field(ge=0, allow_inf_nan=False)]
 HourlyTemperatures = Annotated[list[Temperature], Field(min_length=1, max_length=20000)]
 HourlyNonNegative = Annotated[list[NonNegative], Field(min_length=1, max_length=20000)]
 
@@ -24,166 +29,276 @@ class Strict(BaseModel):
 
 
 class SlabIn(Strict):
-    """A slab (mat) modelled through its thickness; 1 m2 of plan."""
+    """A slab (mat) modelled through its thickness, per m2 of plan."""
 
-    shape: Literal["slab"]
-    thickness_m: Annotated[float, Field(gt=0, le=20, allow_inf_nan=False)]
+    shape: Literal["slab"] = F("1D slab through the thickness", "slab")
+    thickness_m: float = F("Slab thickness [m]", 2.0, gt=0, le=20)
 
 
 class SectionIn(Strict):
     """A rectangular cross-section (wall, long footing), long in the third direction."""
 
-    shape: Literal["section"]
-    width_m: Annotated[float, Field(gt=0, le=50, allow_inf_nan=False)]
-    height_m: Annotated[float, Field(gt=0, le=50, allow_inf_nan=False)]
+    shape: Literal["section"] = F("2D rectangular section", "section")
+    width_m: float = F("Horizontal width of the section [m]", 0.8, gt=0, le=50)
+    height_m: float = F("Vertical height of the section [m]", 4.0, gt=0, le=50)
 
 
 class BlockIn(Strict):
     """A rectangular block (footing, pier cap, dam lift)."""
 
-    shape: Literal["block"]
-    length_m: Annotated[float, Field(gt=0, le=100, allow_inf_nan=False)]
-    width_m: Annotated[float, Field(gt=0, le=100, allow_inf_nan=False)]
-    height_m: Annotated[float, Field(gt=0, le=50, allow_inf_nan=False)]
+    shape: Literal["block"] = F("3D rectangular block", "block")
+    length_m: float = F("Plan length (y axis) [m]", 12.0, gt=0, le=100)
+    width_m: float = F("Plan width (x axis) [m]", 8.0, gt=0, le=100)
+    height_m: float = F("Vertical height [m]", 3.0, gt=0, le=50)
 
 
 ElementIn = Annotated[SlabIn | SectionIn | BlockIn, Field(discriminator="shape")]
 
 
 class HydrationIn(Strict):
-    """Schindler-Folliard hydration parameters, e.g. from calorimetry."""
+    """Schindler-Folliard (2005) hydration parameters, e.g. from calorimetry."""
 
-    total_heat_j_kg: Annotated[float, Field(gt=0, le=700000, allow_inf_nan=False)]
-    tau_h: Annotated[float, Field(gt=0, le=500, allow_inf_nan=False)]
-    beta: Annotated[float, Field(gt=0, le=5, allow_inf_nan=False)]
-    alpha_u: Annotated[float, Field(gt=0, le=1, allow_inf_nan=False)]
-    activation_energy_j_mol: Annotated[float, Field(ge=10000, le=100000, allow_inf_nan=False)]
+    total_heat_j_kg: float = F(
+        "Total heat of hydration Hu per kg of cementitious material [J/kg]", 460000, gt=0, le=7e5
+    )
+    tau_h: float = F("Hydration time parameter tau [h]", 13.0, gt=0, le=500)
+    beta: float = F("Hydration shape parameter beta [-]", 0.9, gt=0, le=5)
+    alpha_u: float = F("Ultimate degree of hydration [-]", 0.75, gt=0, le=1)
+    activation_energy_j_mol: float = F(
+        "Apparent activation energy Ea [J/mol]", 41000, ge=10000, le=100000
+    )
 
 
 class CementIn(Strict):
-    """Mill-certificate composition of the portland cement [% by mass], Blaine [m2/kg]."""
+    """Mill-certificate composition of the portland cement."""
 
-    c3s_pct: Annotated[float, Field(ge=0, le=100)]
-    c2s_pct: Annotated[float, Field(ge=0, le=100)]
-    c3a_pct: Annotated[float, Field(gt=0, le=100)]
-    c4af_pct: Annotated[float, Field(gt=0, le=100)]
-    so3_pct: Annotated[float, Field(gt=0, le=100)]
-    free_cao_pct: Annotated[float, Field(ge=0, le=100)] = 1.0
-    mgo_pct: Annotated[float, Field(ge=0, le=100)] = 2.0
-    blaine_m2_kg: Annotated[float, Field(ge=150, le=1000)]
+    c3s_pct: float = F("Bogue C3S [% by mass]", 55.0, ge=0, le=100)
+    c2s_pct: float = F("Bogue C2S [% by mass]", 18.0, ge=0, le=100)
+    c3a_pct: float = F("Bogue C3A [% by mass]", 8.0, gt=0, le=100)
+    c4af_pct: float = F("Bogue C4AF [% by mass]", 9.0, gt=0, le=100)
+    so3_pct: float = F("SO3 [% by mass]", 3.0, gt=0, le=100)
+    free_cao_pct: float = F("Free CaO [% by mass]", 1.0, ge=0, le=100, default=1.0)
+    mgo_pct: float = F("MgO [% by mass]", 2.0, ge=0, le=100, default=2.0)
+    blaine_m2_kg: float = F("Blaine fineness [m2/kg]", 380.0, ge=150, le=1000)
 
 
 class MixIn(Strict):
     """Mix proportions per m3 of concrete, hydration and thermal properties."""
 
-    cement_kg_m3: Annotated[float, Field(ge=0, le=1500, allow_inf_nan=False)]
-    fly_ash_kg_m3: Annotated[float, Field(ge=0, le=1500, allow_inf_nan=False)] = 0.0
-    slag_kg_m3: Annotated[float, Field(ge=0, le=1500, allow_inf_nan=False)] = 0.0
-    water_kg_m3: Annotated[float, Field(gt=0, le=500, allow_inf_nan=False)]
-    aggregate_kg_m3: Annotated[float, Field(ge=0, le=3000, allow_inf_nan=False)] | None = None
-    hydration: HydrationIn | None = None
-    cement_type: Literal["type_i", "type_ii", "type_iii", "type_iv", "type_v"] = "type_i"
-    cement: CementIn | None = None
-    fly_ash_cao_pct: Annotated[float, Field(ge=0, le=50)] = 10.0
-    density_kg_m3: Annotated[float, Field(ge=1000, le=4000, allow_inf_nan=False)] | None = None
-    specific_heat_j_kgk: Annotated[float, Field(ge=400, le=2500, allow_inf_nan=False)] | None = None
-    conductivity_w_mk: Annotated[float, Field(ge=0.3, le=6, allow_inf_nan=False)] | None = None
-    hardened_conductivity_w_mk: Annotated[float, Field(ge=0.3, le=6, allow_inf_nan=False)] = 2.5
+    cement_kg_m3: float = F("Portland cement content [kg/m3]", 380, ge=0, le=1500)
+    fly_ash_kg_m3: float = F("Fly ash content [kg/m3]", 0, ge=0, le=1500, default=0.0)
+    slag_kg_m3: float = F("Slag cement content [kg/m3]", 0, ge=0, le=1500, default=0.0)
+    water_kg_m3: float = F("Mixing water [kg/m3]", 160, gt=0, le=500)
+    aggregate_kg_m3: float | None = F(
+        "Aggregate content [kg/m3]; default: density minus binder and water",
+        1850,
+        ge=0,
+        le=3000,
+        default=None,
+    )
+    hydration: HydrationIn | None = F(
+        "Hydration parameters; if absent they are estimated from the mix (Schindler & "
+        "Folliard 2005)",
+        default=None,
+    )
+    cement_type: Literal["type_i", "type_ii", "type_iii", "type_iv", "type_v"] = F(
+        "ASTM C150 type whose typical composition is used when `cement` is not given",
+        "type_i",
+        default="type_i",
+    )
+    cement: CementIn | None = F("Cement composition from the mill certificate", default=None)
+    fly_ash_cao_pct: float = F("CaO content of the fly ash [%]", 10.0, ge=0, le=50, default=10.0)
+    density_kg_m3: float | None = F(
+        "Fixed density [kg/m3]; default: the sum of the mix masses",
+        2400,
+        ge=1000,
+        le=4000,
+        default=None,
+    )
+    specific_heat_j_kgk: float | None = F(
+        "Fixed specific heat [J/(kg K)]; default: Van Breugel's model",
+        1000,
+        ge=400,
+        le=2500,
+        default=None,
+    )
+    conductivity_w_mk: float | None = F(
+        "Fixed conductivity [W/(m K)]; default: k_uc (1.33 - 0.33 alpha)",
+        2.5,
+        ge=0.3,
+        le=6,
+        default=None,
+    )
+    hardened_conductivity_w_mk: float = F(
+        "Conductivity of the hardened concrete k_uc [W/(m K)]", 2.5, ge=0.3, le=6, default=2.5
+    )
 
 
 class PlacementIn(Strict):
     """The placement itself."""
 
-    temperature_c: Annotated[float, Field(ge=-10, le=60, allow_inf_nan=False)]
-    clock_hour: Annotated[float, Field(ge=0, lt=24)] = 8.0
+    temperature_c: float = F("Fresh concrete temperature at placement [C]", 20.0, ge=-10, le=60)
+    clock_hour: float = F(
+        "Hour of day at placement, for daily weather cycles [h]", 8.0, ge=0, lt=24, default=8.0
+    )
 
 
 class AmbientIn(Strict):
-    """Weather: constant or hourly (value i at hour i after placement), or a daily min/max."""
+    """Weather: constant or hourly values (value i at hour i after placement), or a daily
+    minimum and maximum turned into a smooth daily cycle (warmest at 15:00)."""
 
-    air_temperature_c: Temperature | HourlyTemperatures | None = None
-    daily_min_c: Temperature | None = None
-    daily_max_c: Temperature | None = None
-    wind_m_s: Annotated[float, Field(ge=0, le=60)] | HourlyNonNegative = 2.0
-    solar_w_m2: Annotated[float, Field(ge=0, le=1400)] | HourlyNonNegative = 0.0
-    solar_peak_w_m2: Annotated[float, Field(ge=0, le=1400)] | None = None
+    air_temperature_c: Temperature | HourlyTemperatures | None = F(
+        "Air temperature [C]: a number, or hourly values from placement", 20.0, default=None
+    )
+    daily_min_c: float | None = F(
+        "Daily minimum air temperature [C]", 8.0, ge=-60, le=120, default=None
+    )
+    daily_max_c: float | None = F(
+        "Daily maximum air temperature [C]", 22.0, ge=-60, le=120, default=None
+    )
+    wind_m_s: Annotated[float, Field(ge=0, le=60)] | HourlyNonNegative = F(
+        "Wind speed [m/s]: a number, or hourly values", 2.0, default=2.0
+    )
+    solar_w_m2: Annotated[float, Field(ge=0, le=1400)] | HourlyNonNegative = F(
+        "Global solar irradiance on exposed faces [W/m2]: a number, or hourly values",
+        0.0,
+        default=0.0,
+    )
+    solar_peak_w_m2: float | None = F(
+        "Noon irradiance of a clear-day half-sine profile, 06:00 to 18:00 [W/m2]",
+        700.0,
+        ge=0,
+        le=1400,
+        default=None,
+    )
 
 
 class FaceIn(Strict):
     """Condition of one face; by default bare concrete exposed to the air."""
 
-    adiabatic: bool = False
-    insulation_r_m2k_w: Annotated[float, Field(ge=0, le=20)] = 0.0
-    insulation_removal_h: Annotated[float, Field(gt=0)] | None = None
-    formwork_r_m2k_w: Annotated[float, Field(ge=0, le=20)] = 0.0
-    formwork_removal_h: Annotated[float, Field(gt=0)] | None = None
-    film_coefficient_w_m2k: Annotated[float, Field(gt=0, le=1000)] | None = None
-    solar_absorptivity: Fraction = 0.0
-    emissivity: Fraction = 0.9
+    adiabatic: bool = F(
+        "No heat crosses the face (symmetry or perfect insulation)", False, default=False
+    )
+    insulation_r_m2k_w: float = F(
+        "Insulation blanket resistance R [m2 K/W]", 0.5, ge=0, le=20, default=0.0
+    )
+    insulation_removal_h: float | None = F(
+        "Hour after placement when the insulation comes off [h]", 96.0, gt=0, default=None
+    )
+    formwork_r_m2k_w: float = F("Formwork resistance R [m2 K/W]", 0.15, ge=0, le=20, default=0.0)
+    formwork_removal_h: float | None = F(
+        "Hour after placement when the forms come off [h]", 48.0, gt=0, default=None
+    )
+    film_coefficient_w_m2k: float | None = F(
+        "Total surface coefficient replacing wind and radiation [W/(m2 K)]",
+        12.0,
+        gt=0,
+        le=1000,
+        default=None,
+    )
+    solar_absorptivity: float = F(
+        "Fraction of solar irradiance absorbed [-]", 0.6, ge=0, le=1, default=0.0
+    )
+    emissivity: float = F(
+        "Long-wave emissivity of the outer face [-]", 0.9, ge=0, le=1, default=0.9
+    )
 
 
 class FacesIn(Strict):
-    """Per-face conditions; ``sides`` applies to every side face not given on its own."""
+    """Per-face conditions; `sides` applies to every side face not given on its own."""
 
-    top: FaceIn | None = None
-    bottom: FaceIn | None = None
-    sides: FaceIn | None = None
-    left: FaceIn | None = None
-    right: FaceIn | None = None
-    front: FaceIn | None = None
-    back: FaceIn | None = None
+    top: FaceIn | None = F("Top face", default=None)
+    bottom: FaceIn | None = F("Bottom face (omit when a ground layer is given)", default=None)
+    sides: FaceIn | None = F("All side faces of a section or block", default=None)
+    left: FaceIn | None = F("Side face at -x (section, block)", default=None)
+    right: FaceIn | None = F("Side face at +x (section, block)", default=None)
+    front: FaceIn | None = F("Side face at -y (block)", default=None)
+    back: FaceIn | None = F("Side face at +y (block)", default=None)
 
 
 class GroundIn(Strict):
     """Soil or rock under the element, meshed with its own properties."""
 
-    depth_m: Annotated[float, Field(gt=0, le=50)] = 3.0
-    conductivity_w_mk: Annotated[float, Field(gt=0.05, le=10)] = 1.5
-    density_kg_m3: Annotated[float, Field(ge=500, le=4000)] = 1900.0
-    specific_heat_j_kgk: Annotated[float, Field(ge=300, le=4000)] = 900.0
-    deep_temperature_c: Temperature = 15.0
-    initial_temperature_c: Temperature | None = None
-    margin_m: Annotated[float, Field(gt=0, le=50)] | None = None
+    depth_m: float = F("Depth of the meshed layer [m]", 3.0, gt=0, le=50, default=3.0)
+    conductivity_w_mk: float = F("Conductivity [W/(m K)]", 1.5, gt=0.05, le=10, default=1.5)
+    density_kg_m3: float = F("Density [kg/m3]", 1900, ge=500, le=4000, default=1900.0)
+    specific_heat_j_kgk: float = F("Specific heat [J/(kg K)]", 900, ge=300, le=4000, default=900.0)
+    deep_temperature_c: float = F(
+        "Fixed temperature at the bottom of the layer [C]", 15.0, ge=-60, le=120, default=15.0
+    )
+    initial_temperature_c: float | None = F(
+        "Temperature of the layer at placement [C]; default: the deep value",
+        12.0,
+        ge=-60,
+        le=120,
+        default=None,
+    )
+    margin_m: float | None = F(
+        "Ground meshed beyond the footprint on each side (2D, 3D) [m]; default: depth_m",
+        3.0,
+        gt=0,
+        le=50,
+        default=None,
+    )
 
 
 class SensorIn(Strict):
-    """A reporting point: depth below the top, plan offsets from the element centre [m]."""
+    """A reporting point inside the concrete."""
 
-    id: Annotated[str, Field(min_length=1, max_length=64)]
-    depth_m: NonNegative
-    x_m: Annotated[float, Field(allow_inf_nan=False)] = 0.0
-    y_m: Annotated[float, Field(allow_inf_nan=False)] = 0.0
+    id: str = F("Sensor label", "S1", min_length=1, max_length=64)
+    depth_m: float = F("Depth below the top face [m]", 1.0, ge=0)
+    x_m: float = F("Plan offset from the element centre across the width [m]", 0.0, default=0.0)
+    y_m: float = F("Plan offset from the element centre along the length [m]", 0.0, default=0.0)
 
 
 class LimitsIn(Strict):
-    """Limits to check (common specification values by default, never a promise)."""
+    """Limits to check: common specification values by default, never a promise; the
+    governing specification and the engineer of record set the real ones."""
 
-    max_temperature_c: Annotated[float, Field(gt=0, le=120)] = 70.0
-    max_differential_c: Annotated[float, Field(gt=0, le=100)] = 19.0
+    max_temperature_c: float = F(
+        "Maximum concrete temperature [C]", 70.0, gt=0, le=120, default=70.0
+    )
+    max_differential_c: float = F(
+        "Maximum core-to-surface differential [C]", 19.0, gt=0, le=100, default=19.0
+    )
 
 
 class ResolutionIn(Strict):
     """Numerical settings; omitted values take the shape's defaults."""
 
-    surface_cell_m: Annotated[float, Field(ge=0.002, le=0.2)] | None = None
-    growth: Annotated[float, Field(ge=1.0, le=2.0)] | None = None
-    max_cell_m: Annotated[float, Field(ge=0.01, le=2.0)] | None = None
-    max_step_h: Annotated[float, Field(ge=0.01, le=6.0)] | None = None
+    surface_cell_m: float | None = F(
+        "Cell size at exposed faces [m]", 0.01, ge=0.002, le=0.2, default=None
+    )
+    growth: float | None = F(
+        "Cell size growth per cell away from faces [-]", 1.2, ge=1.0, le=2.0, default=None
+    )
+    max_cell_m: float | None = F("Largest cell [m]", 0.1, ge=0.01, le=2.0, default=None)
+    max_step_h: float | None = F("Largest time step [h]", 1.0, ge=0.01, le=6.0, default=None)
 
 
 class ScenarioIn(Strict):
     """A forecast request."""
 
-    element: ElementIn
-    mix: MixIn
-    placement: PlacementIn
-    ambient: AmbientIn
-    faces: FacesIn = Field(default_factory=FacesIn)
-    ground: GroundIn | None = None
-    sensors: Annotated[list[SensorIn], Field(max_length=200)] = Field(default_factory=list)
-    duration_h: Annotated[float, Field(gt=0, le=2000, allow_inf_nan=False)] = 168.0
-    output_interval_h: Annotated[float, Field(gt=0, le=48, allow_inf_nan=False)] = 1.0
-    near_surface_depth_m: Annotated[float, Field(gt=0, le=0.5)] = 0.05
-    nurse_saul_datum_c: Annotated[float, Field(ge=-20, le=10)] = 0.0
-    limits: LimitsIn = Field(default_factory=LimitsIn)
-    resolution: ResolutionIn | None = None
+    element: ElementIn = F("Geometry of the placement")
+    mix: MixIn = F("Mix proportions, hydration and thermal properties")
+    placement: PlacementIn = F("Placement temperature and time of day")
+    ambient: AmbientIn = F("Weather")
+    faces: FacesIn = F(
+        "Face conditions; faces not given are bare concrete in the air", default_factory=FacesIn
+    )
+    ground: GroundIn | None = F("Soil or rock layer under the element", default=None)
+    sensors: list[SensorIn] = F("Points to report", max_length=200, default_factory=list)
+    duration_h: float = F("Forecast length [h]", 168.0, gt=0, le=2000, default=168.0)
+    output_interval_h: float = F(
+        "Spacing of the reported series [h]", 1.0, gt=0, le=48, default=1.0
+    )
+    near_surface_depth_m: float = F(
+        "Depth of the near-surface layer inside exposed faces [m]", 0.05, gt=0, le=0.5, default=0.05
+    )
+    nurse_saul_datum_c: float = F(
+        "Datum temperature of the Nurse-Saul factor [C]", 0.0, ge=-20, le=10, default=0.0
+    )
+    limits: LimitsIn = F("Limits to check", default_factory=LimitsIn)
+    resolution: ResolutionIn | None = F(
+        "Numerical settings (defaults suit typical pours)", default=None
+    )

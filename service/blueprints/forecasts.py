@@ -1,31 +1,133 @@
-"""POST /v1/forecasts: a scenario in, the forecast out as JSON or CSV."""
+"""/v1/forecasts: POST a JSON scenario, or GET flat query parameters (spreadsheet web query).
 
-from flask import Blueprint, Response, current_app, jsonify, request
-from werkzeug.exceptions import BadRequest
+Responses: JSON by default; the series as CSV, or a chart as SVG or PNG, by the Accept header or
+``?format=``; one summary number as text/plain with ``?value=`` on GET; US customary units with
+``?units=us``.
+"""
+
+from typing import Any
+
+from flask import Blueprint, Response, current_app, g, jsonify, request
+from werkzeug.exceptions import BadRequest, NotAcceptable
 
 from service.convert import forecast_csv
+from service.errors import InvalidScenarioError
 from service.forecasting import run_forecast
+from service.spreadsheet import SpreadsheetQueryIn
 
 bp = Blueprint("forecasts", __name__)
 
+MEDIA_TYPES = {
+    "json": "application/json",
+    "csv": "text/csv",
+    "svg": "image/svg+xml",
+    "png": "image/png",
+}
+SHAPE_DIMENSIONS = {
+    "slab": ("thickness_m",),
+    "section": ("width_m", "height_m"),
+    "block": ("length_m", "width_m", "height_m"),
+}
+CONTROL_PARAMETERS = ("units", "format", "value")
 
-def _wants_csv() -> bool:
-    if request.args.get("format") == "csv":
-        return True
-    best = request.accept_mimetypes.best_match(["application/json", "text/csv"])
-    return (
-        best == "text/csv"
-        and request.accept_mimetypes["text/csv"] > request.accept_mimetypes["application/json"]
-    )
+
+@bp.before_request
+def _units() -> None:
+    units = request.args.get("units", "si")
+    if units not in ("si", "us"):
+        raise InvalidScenarioError([{"field": "units", "message": "expected 'si' or 'us'"}])
+    g.units = units
+
+
+def _format(default: str) -> str:
+    fmt = request.args.get("format")
+    if fmt is not None:
+        if fmt not in MEDIA_TYPES:
+            raise InvalidScenarioError(
+                [{"field": "format", "message": f"expected one of {sorted(MEDIA_TYPES)}"}]
+            )
+        return fmt
+    best = request.accept_mimetypes.best_match(list(MEDIA_TYPES.values()), MEDIA_TYPES[default])
+    if best is None:
+        raise NotAcceptable(f"offered: {', '.join(MEDIA_TYPES.values())}")
+    return next(name for name, media in MEDIA_TYPES.items() if media == best)
+
+
+def _render(body: dict[str, Any], fmt: str) -> Response:
+    """The forecast body in the requested format and units."""
+    us = g.units == "us"
+    if fmt == "csv":
+        text = forecast_csv(body)
+        if us:
+            from service.units import csv_to_us
+
+            text = csv_to_us(text)
+        return Response(text, mimetype="text/csv")
+    shown = body
+    if us:
+        from service.units import body_to_us
+
+        shown = body_to_us(body)
+    if fmt == "json":
+        return jsonify(shown)
+    from service.charts import render_chart
+
+    return Response(render_chart(shown, fmt, units=g.units), mimetype=MEDIA_TYPES[fmt])
+
+
+def _to_si(payload: Any) -> Any:
+    if g.units != "us":
+        return payload
+    from service.units import request_to_si
+
+    return request_to_si(payload)
 
 
 @bp.post("/v1/forecasts")
-def create_forecast():
+def create_forecast() -> Response:
     """Run a forecast for the posted scenario."""
+    fmt = _format("json")
     payload = request.get_json(silent=True)
     if payload is None:
         raise BadRequest("the body must be a JSON object (Content-Type: application/json)")
-    _, body = run_forecast(payload, current_app.config["MAX_CELL_STEPS"])
-    if _wants_csv():
-        return Response(forecast_csv(body), mimetype="text/csv")
-    return jsonify(body)
+    _, body = run_forecast(_to_si(payload), current_app.config["MAX_CELL_STEPS"])
+    return _render(body, fmt)
+
+
+def _query_values() -> dict[str, Any]:
+    """Query parameters other than the controls; numbers parsed so units can be converted."""
+    values: dict[str, Any] = {}
+    for name, text in request.args.items():
+        if name in CONTROL_PARAMETERS:
+            continue
+        try:
+            values[name] = float(text)
+        except ValueError:
+            values[name] = text
+    return values
+
+
+@bp.get("/v1/forecasts")
+def query_forecast() -> Response:
+    """Spreadsheet web query: the series as CSV, or ``value=<summary field>`` as text/plain."""
+    query = SpreadsheetQueryIn.model_validate(_to_si(_query_values()))
+    missing = [n for n in SHAPE_DIMENSIONS[query.shape] if getattr(query, n) is None]
+    if missing:
+        raise InvalidScenarioError(
+            [{"field": n, "message": f"required for shape {query.shape}"} for n in missing]
+        )
+    _, body = run_forecast(query.scenario_payload(), current_app.config["MAX_CELL_STEPS"])
+    value = request.args.get("value")
+    if value is None:
+        return _render(body, _format("csv"))
+    summary = body["summary"]
+    if g.units == "us":
+        from service.units import body_to_us
+
+        summary = body_to_us(body)["summary"]
+    scalars = {k: v for k, v in summary.items() if isinstance(v, int | float)}
+    if value not in scalars:
+        raise InvalidScenarioError(
+            [{"field": "value", "message": f"expected one of {sorted(scalars)}"}]
+        )
+    return Response(f"{scalars[value]}", mimetype="text/plain")

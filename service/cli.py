@@ -1,0 +1,256 @@
+"""Command line: `pourheat forecast` for cron jobs and spreadsheets, `pourheat serve` (gunicorn).
+
+A thin shell around :func:`service.forecasting.run_forecast`, so the command line and the HTTP
+service validate and answer the same way. Exit codes of ``pourheat forecast``:
+
+    0  the forecast ran (and, with --fail-on-limit, every limit is met)
+    1  an output file (--csv, --json) could not be written
+    2  bad input: unreadable file, invalid JSON, or an invalid scenario (each "field: message"
+       is printed to stderr); also argparse's usage errors
+    3  --fail-on-limit was given and a limit is forecast to be exceeded
+"""
+
+import argparse
+import json
+import os
+import sys
+from pathlib import Path
+from typing import Any, TextIO
+
+from pydantic import ValidationError
+
+from service.convert import forecast_csv
+from service.errors import InvalidScenarioError, validation_errors
+from service.forecasting import DEFAULT_MAX_CELL_STEPS, run_forecast
+
+EXIT_OK = 0
+EXIT_OUTPUT_ERROR = 1
+EXIT_BAD_INPUT = 2
+EXIT_LIMIT_EXCEEDED = 3
+
+DEFAULT_PORT = 8000
+APP_SPEC = "service.app:create_app()"
+GUNICORN_CONF = Path("deploy") / "gunicorn.conf.py"
+
+EPILOG = """exit codes: 0 ok; 1 an output file could not be written; 2 bad input (unreadable file,
+invalid JSON, invalid scenario: each "field: message" on stderr); 3 --fail-on-limit and a limit
+is forecast to be exceeded. Forecasts are estimates: limits come from the governing
+specification and the engineer of record; confirm by monitoring."""
+
+
+class InputError(Exception):
+    """The scenario could not be read or parsed; the message says why."""
+
+
+def read_scenario(source: str, stdin: TextIO | None = None) -> Any:
+    """The JSON document in file ``source`` ("-" reads standard input)."""
+    try:
+        if source == "-":
+            text = (stdin or sys.stdin).read()
+            name = "<stdin>"
+        else:
+            text = Path(source).read_text(encoding="utf-8")
+            name = source
+    except (OSError, UnicodeDecodeError) as error:
+        raise InputError(f"cannot read {source}: {error}") from error
+    try:
+        return json.loads(text)
+    except json.JSONDecodeError as error:
+        raise InputError(f"{name} is not valid JSON: {error}") from error
+
+
+def max_cell_steps_setting() -> float:
+    """The compute budget: POURHEAT_MAX_CELL_STEPS as for the service, else the default."""
+    value = os.environ.get("POURHEAT_MAX_CELL_STEPS")
+    if not value:
+        return DEFAULT_MAX_CELL_STEPS
+    try:
+        return float(value)
+    except ValueError:
+        return DEFAULT_MAX_CELL_STEPS
+
+
+def _value(record: dict[str, Any], stem: str, suffix: str) -> Any:
+    """``record[stem_suffix]``, falling back to ``stem_c`` (a converter may keep the SI key)."""
+    return record.get(f"{stem}_{suffix}", record.get(f"{stem}_c"))
+
+
+def _limit_name(key: str) -> str:
+    """A limit's key as words: "max_temperature_c" -> "max temperature"."""
+    return key.removesuffix("_c").removesuffix("_f").replace("_", " ")
+
+
+def format_summary(body: dict[str, Any], unit: str = "C") -> str:
+    """A short human summary of a forecast body: peak, differential, limits, cautions.
+
+    ``unit`` is "C" for the SI body, "F" for a body converted by ``service.units.body_to_us``.
+    """
+    s = body["summary"]
+    suffix = unit.lower()
+    lines = [
+        f"Peak temperature: {_value(s, 'peak_temperature', suffix):.1f} {unit} "
+        f"at {s['peak_time_h']:.1f} h",
+        f"Max differential: {_value(s, 'max_differential', suffix):.1f} {unit} "
+        f"at {s['max_differential_time_h']:.1f} h",
+    ]
+    for key, status in s["limits"].items():
+        limit = _value(status, "limit", suffix)
+        margin = _value(status, "margin", suffix)
+        if status["met"]:
+            verdict = f"met (margin {margin:.1f} {unit})"
+        else:
+            verdict = f"EXCEEDED by {-margin:.1f} {unit}"
+            if status.get("first_exceeded_h") is not None:
+                verdict += f", first at {status['first_exceeded_h']:.1f} h"
+        lines.append(f"Limit {_limit_name(key)} {limit:g} {unit}: {verdict}")
+    lines.extend(f"Caution: {caution}" for caution in body.get("cautions", []))
+    return "\n".join(lines)
+
+
+def limits_exceeded(body: dict[str, Any]) -> list[str]:
+    """Names of the limits the forecast says are exceeded (summary.limits.*.met is False)."""
+    return [_limit_name(k) for k, v in body["summary"]["limits"].items() if not v["met"]]
+
+
+def _print_errors(errors: list[dict[str, str]]) -> None:
+    for e in errors:
+        print(f"{e['field']}: {e['message']}", file=sys.stderr)
+
+
+def cmd_forecast(args: argparse.Namespace) -> int:
+    """``pourheat forecast``: run one scenario, print a summary, write the requested files."""
+    try:
+        payload = read_scenario(args.scenario)
+    except InputError as error:
+        print(f"pourheat: {error}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    units = None
+    if args.units == "us":
+        try:
+            from service import units  # lazy: only the US path needs it
+        except ImportError as error:
+            print(f"pourheat: --units us is not available: {error}", file=sys.stderr)
+            return EXIT_BAD_INPUT
+    try:
+        if units is not None:
+            payload = units.request_to_si(payload)
+        _, body = run_forecast(payload, max_cell_steps_setting())
+    except ValidationError as error:
+        _print_errors(validation_errors(error))
+        return EXIT_BAD_INPUT
+    except InvalidScenarioError as error:
+        _print_errors(error.errors)
+        return EXIT_BAD_INPUT
+
+    exceeded = limits_exceeded(body)  # decided on the SI body, whatever the output units
+    csv_text = forecast_csv(body) if args.csv else None
+    if units is not None:
+        body = units.body_to_us(body)
+        csv_text = units.csv_to_us(csv_text) if csv_text is not None else None
+    try:
+        if csv_text is not None:
+            Path(args.csv).write_text(csv_text, encoding="utf-8")
+        if args.json:
+            Path(args.json).write_text(json.dumps(body, indent=2) + "\n", encoding="utf-8")
+    except OSError as error:
+        print(f"pourheat: cannot write output: {error}", file=sys.stderr)
+        return EXIT_OUTPUT_ERROR
+
+    print(format_summary(body, "F" if units is not None else "C"))
+    if exceeded and args.fail_on_limit:
+        print(f"pourheat: limit exceeded: {', '.join(exceeded)}", file=sys.stderr)
+        return EXIT_LIMIT_EXCEEDED
+    return EXIT_OK
+
+
+def find_gunicorn_conf() -> Path | None:
+    """deploy/gunicorn.conf.py in the working directory or beside the source tree, if present."""
+    candidates = (Path.cwd() / GUNICORN_CONF, Path(__file__).resolve().parents[1] / GUNICORN_CONF)
+    return next((p for p in candidates if p.is_file()), None)
+
+
+def gunicorn_argv(config: Path, host: str | None, port: int) -> list[str]:
+    """The command that serves the app with gunicorn under this interpreter."""
+    argv = [sys.executable, "-m", "gunicorn", "--config", str(config)]
+    if host is not None:
+        bracketed = f"[{host}]" if ":" in host and not host.startswith("[") else host
+        argv += ["--bind", f"{bracketed}:{port}"]  # the command line overrides the config file
+    return [*argv, APP_SPEC]
+
+
+def cmd_serve(args: argparse.Namespace) -> int:
+    """``pourheat serve``: replace this process with gunicorn (returns only on failure)."""
+    config = Path(args.config) if args.config else find_gunicorn_conf()
+    if config is None or not config.is_file():
+        print(
+            f"pourheat: gunicorn settings not found ({args.config or GUNICORN_CONF}); "
+            "run from the project directory or pass --config",
+            file=sys.stderr,
+        )
+        return EXIT_BAD_INPUT
+    port = args.port if args.port is not None else int(os.environ.get("PORT", DEFAULT_PORT))
+    os.environ["PORT"] = str(port)
+    argv = gunicorn_argv(config, args.host, port)
+    try:
+        os.execvp(argv[0], argv)
+    except OSError as error:
+        print(f"pourheat: cannot start gunicorn: {error}", file=sys.stderr)
+        return EXIT_OUTPUT_ERROR
+    return EXIT_OK  # pragma: no cover - execvp does not return
+
+
+def build_parser() -> argparse.ArgumentParser:
+    """The argument parser of ``pourheat``."""
+    parser = argparse.ArgumentParser(
+        prog="pourheat",
+        description="Temperature forecasts for curing mass concrete.",
+        epilog=EPILOG,
+    )
+    sub = parser.add_subparsers(dest="command", required=True, metavar="COMMAND")
+
+    fc = sub.add_parser(
+        "forecast",
+        help="forecast one scenario and print a summary",
+        description="Forecast one scenario (the JSON body of POST /v1/forecasts).",
+        epilog=EPILOG,
+    )
+    fc.add_argument("scenario", metavar="SCENARIO.json", help='scenario file, or "-" for stdin')
+    fc.add_argument("--csv", metavar="FILE", help="write the hourly series as CSV to FILE")
+    fc.add_argument("--json", metavar="FILE", help="write the full JSON response to FILE")
+    fc.add_argument(
+        "--units",
+        choices=("si", "us"),
+        default="si",
+        help="units of the scenario and outputs: si (C, m; default) or us (F, ft)",
+    )
+    fc.add_argument(
+        "--fail-on-limit",
+        action="store_true",
+        help="exit 3 when a limit (max temperature, max differential) is forecast exceeded",
+    )
+    fc.set_defaults(handler=cmd_forecast)
+
+    sv = sub.add_parser(
+        "serve",
+        help="serve the REST API with gunicorn",
+        description="Serve the REST API with gunicorn and deploy/gunicorn.conf.py.",
+    )
+    sv.add_argument(
+        "--port", type=int, help=f"port (default: $PORT or {DEFAULT_PORT})", default=None
+    )
+    sv.add_argument("--host", help="address to bind (default: that of the gunicorn settings)")
+    sv.add_argument(
+        "--config", metavar="FILE", help=f"gunicorn settings (default: {GUNICORN_CONF})"
+    )
+    sv.set_defaults(handler=cmd_serve)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Run ``pourheat`` with ``argv`` (default: the process arguments); returns the exit code."""
+    args = build_parser().parse_args(argv)
+    return args.handler(args)
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

@@ -1,0 +1,133 @@
+"""Response schemas (pydantic v2), used for the OpenAPI contract and to check real responses.
+
+The service builds its bodies in :mod:`service.convert`; these models describe them, field by
+field, with units. SI names are shown; with ``units=us`` the suffixes change (see the README).
+"""
+
+from pydantic import BaseModel, ConfigDict
+
+from service.schemas import F
+
+
+class Out(BaseModel):
+    """Base: the documented fields are all there is."""
+
+    model_config = ConfigDict(extra="forbid")
+
+
+class LimitStatusOut(Out):
+    """A limit checked against every solver step."""
+
+    limit_c: float = F("The limit checked [C]", 70.0)
+    met: bool = F("Whether the forecast stays within the limit", True)
+    margin_c: float = F("Limit minus the worst forecast value; negative when exceeded [C]", 3.2)
+    first_exceeded_h: float | None = F("First time the limit is exceeded, or null [h]", None)
+
+
+class LimitsOut(Out):
+    """Status of each limit."""
+
+    max_temperature_c: LimitStatusOut = F("Peak temperature limit")
+    max_differential_c: LimitStatusOut = F("Differential limit")
+
+
+class SummaryOut(Out):
+    """Extremes of the forecast, over every solver step."""
+
+    peak_temperature_c: float = F("Hottest concrete temperature at any time [C]", 66.8)
+    peak_time_h: float = F("When the peak occurs [h]", 62.5)
+    max_differential_c: float = F("Largest hottest-minus-near-surface difference [C]", 17.9)
+    max_differential_time_h: float = F("When the largest differential occurs [h]", 98.0)
+    max_spread_c: float = F("Largest hottest-minus-coolest point difference [C]", 19.4)
+    max_spread_time_h: float = F("When the largest spread occurs [h]", 98.0)
+    min_surface_temperature_c: float = F("Lowest near-surface temperature [C]", 18.5)
+    final_core_equivalent_age_h: float = F(
+        "Equivalent age at 21.1 C at the hottest point [h]", 420.0
+    )
+    final_surface_equivalent_age_h: float = F(
+        "Equivalent age at 21.1 C at the coolest near-surface point [h]", 250.0
+    )
+    limits: LimitsOut = F("Each limit: met or not, margin, first time exceeded")
+
+
+class SeriesOut(Out):
+    """Time series on the reporting times (all lists have the length of time_h)."""
+
+    time_h: list[float] = F("Hours since placement [h]", [0.0, 1.0, 2.0])
+    core_c: list[float] = F("Hottest point of the concrete [C]", [20.0, 20.1, 20.4])
+    surface_c: list[float] = F(
+        "Near-surface temperature (coolest inset point) [C]", [20.0, 20.0, 20.2]
+    )
+    differential_c: list[float] = F("core_c minus surface_c [C]", [0.0, 0.1, 0.2])
+    coolest_c: list[float] = F("Coolest point of the concrete [C]", [20.0, 19.9, 20.0])
+    spread_c: list[float] = F("core_c minus coolest_c [C]", [0.0, 0.2, 0.4])
+    air_c: list[float] = F("Air temperature [C]", [20.0, 20.0, 20.0])
+    core_equivalent_age_h: list[float] = F(
+        "Equivalent age at the hottest point [h]", [0.0, 1.0, 2.0]
+    )
+    surface_equivalent_age_h: list[float] = F(
+        "Equivalent age at the near-surface point [h]", [0.0, 1.0, 2.0]
+    )
+    core_degree_of_hydration: list[float] = F(
+        "Degree of hydration at the hottest point [-]", [0.0, 0.0, 0.002]
+    )
+    core_nurse_saul_ch: list[float] = F(
+        "Nurse-Saul factor at the hottest point [C h]", [0.0, 20.0, 40.2]
+    )
+    surface_nurse_saul_ch: list[float] = F(
+        "Nurse-Saul factor at the near-surface point [C h]", [0.0, 20.0, 40.1]
+    )
+    faces_c: dict[str, list[float]] = F(
+        "Near-surface temperature of each exposed face [C]", {"top": [20.0, 20.0, 20.2]}
+    )
+    sensors: dict[str, list[float]] = F(
+        "Temperature at each requested sensor [C]", {"S1": [20.0, 20.1, 20.3]}
+    )
+
+
+class HydrationUsedOut(Out):
+    """The hydration parameters the forecast used."""
+
+    origin: str = F("'given' or how they were estimated", "given")
+    total_heat_j_kg: float = F("Hu [J/kg of cementitious material]", 460000.0)
+    tau_h: float = F("tau [h]", 13.0)
+    beta: float = F("beta [-]", 0.9)
+    alpha_u: float = F("Ultimate degree of hydration [-]", 0.75)
+    activation_energy_j_mol: float = F("Ea [J/mol]", 41000.0)
+
+
+class NumericsOut(Out):
+    """What the solver did."""
+
+    cells: int = F("Number of grid cells", 28)
+    steps: int = F("Number of time steps", 497)
+    energy_imbalance: float = F("(generated - stored - lost) / generated heat [-]", 2e-7)
+
+
+class ForecastOut(Out):
+    """A forecast."""
+
+    summary: SummaryOut = F("Peak, differential, limits")
+    series: SeriesOut = F("Series on the reporting times")
+    cautions: list[str] = F(
+        "Cautions that go with every forecast", ["Limits come from the governing specification ..."]
+    )
+    hydration: HydrationUsedOut = F("Hydration parameters used")
+    numerics: NumericsOut = F("Solver statistics")
+
+
+class FieldErrorOut(Out):
+    """One invalid field."""
+
+    field: str = F("Dotted path of the field", "element.thickness_m")
+    message: str = F("What is wrong", "Input should be greater than 0")
+
+
+class ProblemOut(Out):
+    """RFC 9457 problem details."""
+
+    type: str = F("Problem type URI", "about:blank")
+    title: str = F("Short summary", "Invalid scenario")
+    status: int = F("HTTP status", 422)
+    detail: str = F("Explanation", "1 field(s) are invalid: see errors")
+    errors: list[FieldErrorOut] | None = F("Each invalid field", default=None)
