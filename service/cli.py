@@ -132,14 +132,15 @@ def cmd_forecast(args: argparse.Namespace) -> int:
             print(f"pourheat: --units us is not available: {error}", file=sys.stderr)
             return EXIT_BAD_INPUT
     try:
-        if units is not None:
-            payload = units.request_to_si(payload)
-        _, body = run_forecast(payload, max_cell_steps_setting())
-    except ValidationError as error:
-        _print_errors(validation_errors(error))
-        return EXIT_BAD_INPUT
-    except InvalidScenarioError as error:
-        _print_errors(error.errors)
+        _, body = run_forecast(
+            units.request_to_si(payload) if units is not None else payload,
+            max_cell_steps_setting(),
+        )
+    except (ValidationError, InvalidScenarioError) as error:
+        errors = validation_errors(error) if isinstance(error, ValidationError) else error.errors
+        if units is not None:  # name the fields as the caller wrote them, as the API does
+            errors = [{**e, "field": units.field_path_to_us(e["field"], payload)} for e in errors]
+        _print_errors(errors)
         return EXIT_BAD_INPUT
 
     exceeded = limits_exceeded(body)  # decided on the SI body, whatever the output units

@@ -76,7 +76,7 @@ HFT2F_BTU_M2K_W = 0.1761102
 
 BTU_HFT2_W_M2 = 3.154591
 """1 Btu_IT/(h ft2) = 3.154591 W/m2 [(W/m2)/(Btu_IT/(h ft2))]."""
-# NIST SP 811 (2008), App. B.9, heat flow rate per unit area: British thermal unit_IT per
+# NIST SP 811 (2008), App. B.8 and B.9 (heat flow rate per unit area): British thermal unit_IT per
 # hour square foot [Btu_IT/(h . ft2)] to watt per square meter (W/m2), 3.154 591 E+00.
 
 F_PER_C = 1.8
@@ -269,7 +269,9 @@ class _Walk(NamedTuple):
     digits: int | None
 
 
-def _convert_value(value: Any, rule: Suffix, difference: bool, walk: _Walk, path: tuple) -> Any:
+def _convert_value(
+    value: Any, rule: Suffix | None, difference: bool, walk: _Walk, path: tuple[str, ...]
+) -> Any:
     """Convert a value held under a key with a unit: a number, None or a (nested) list."""
     if value is None:
         return None
@@ -278,7 +280,7 @@ def _convert_value(value: Any, rule: Suffix, difference: bool, walk: _Walk, path
     if isinstance(value, Mapping):
         return _walk_dict(value, walk, path)
     number = _as_number(value)
-    if number is None:
+    if number is None or rule is None:
         return value  # not a number: left for the schema to reject
     convert: Callable[[float, Suffix, bool], float] = _number_to_us if walk.to_us else _number_to_si
     result = convert(number, rule, difference)
@@ -303,25 +305,26 @@ def _walk_dict(obj: Mapping, walk: _Walk, path: tuple[str, ...]) -> dict:
         if not isinstance(key, str):
             out[key] = _walk(value, walk, path)
             continue
+        converted = True
         if walk.to_us:
             si_key, new_key = key, key_to_us(key)
         else:
-            si_key = key_to_si(key)
-            if si_key is None or si_key in obj:
-                # Not a US name, or given twice (SI and US): passed through unchanged so that
-                # the schema rejects it by the name the caller wrote.
-                si_key, new_key = key, key
-            else:
-                new_key = si_key
-        if si_key in NAME_KEYED and isinstance(value, Mapping):
-            rule = _si_rule(NAME_KEYED[si_key] and "x" + NAME_KEYED[si_key])
-            assert rule is not None
+            found = key_to_si(key)
+            # A key that is not a US name, or a US name whose SI twin is also given, passes
+            # through unchanged and unconverted, so that the schema rejects it by the name the
+            # caller wrote (an SI name is taken as SI).
+            # Without a US name, only a name without a unit (not an SI name) is "converted".
+            converted = _si_rule(key) is None if found is None else found not in obj
+            si_key = found if converted and found is not None else key
+            new_key = si_key
+        if converted and si_key in NAME_KEYED and isinstance(value, Mapping):
+            rule = _si_rule("value" + NAME_KEYED[si_key])
             out[new_key] = {
                 name: _convert_value(v, rule, False, walk, (*path, si_key))
                 for name, v in value.items()
             }
             continue
-        rule = _si_rule(si_key) if new_key != key or walk.to_us else None
+        rule = _si_rule(si_key) if converted else None
         if rule is None:
             out[new_key] = _walk(value, walk, (*path, si_key))
         elif isinstance(value, Mapping):

@@ -70,8 +70,10 @@ def _render(body: dict[str, Any], fmt: str) -> Response:
         shown = body_to_us(body)
     if fmt == "json":
         return jsonify(shown)
-    from service.charts import render_chart
-
+    try:
+        from service.charts import render_chart
+    except ImportError as error:  # the optional [plot] extra is not installed
+        raise NotAcceptable("charts need matplotlib: install pourheat[plot]") from error
     return Response(render_chart(shown, fmt, units=g.units), mimetype=MEDIA_TYPES[fmt])
 
 

@@ -1,0 +1,82 @@
+"""Formats and the spreadsheet query: charts, CSV and single values, the index page."""
+
+import csv
+import io
+
+import pytest
+
+URL = "/v1/forecasts"
+QUERY = (
+    "/v1/forecasts?shape=slab&thickness_m=1.5&cement_kg_m3=360&water_kg_m3=155"
+    "&placement_c=18&air_mean_c=15&air_range_c=10&top_r_m2k_w=0.5&duration_h=48"
+)
+
+
+@pytest.mark.parametrize(
+    ("how", "media", "magic"),
+    [
+        ({"query_string": {"format": "svg"}}, "image/svg+xml", b"<?xml"),
+        ({"headers": {"Accept": "image/png"}}, "image/png", b"\x89PNG"),
+    ],
+)
+def test_chart_formats(client, contract_scenario, how, media, magic):
+    contract_scenario["duration_h"] = 48
+    response = client.post(URL, json=contract_scenario, **how)
+    assert response.status_code == 200
+    assert response.mimetype == media
+    assert response.data.startswith(magic)
+
+
+def test_unknown_format_is_422_naming_format(client, contract_scenario):
+    response = client.post(URL, json=contract_scenario, query_string={"format": "xls"})
+    assert response.status_code == 422
+    assert response.get_json()["errors"][0]["field"] == "format"
+
+
+def test_spreadsheet_query_returns_csv(client):
+    response = client.get(QUERY)
+    assert response.status_code == 200
+    assert response.mimetype == "text/csv"
+    rows = list(csv.DictReader(io.StringIO(response.get_data(as_text=True))))
+    assert len(rows) == 49
+    assert float(rows[0]["core_c"]) == 18.0
+
+
+def test_spreadsheet_value_equals_the_json_summary(client):
+    value = client.get(QUERY + "&value=peak_temperature_c")
+    assert value.status_code == 200
+    assert value.mimetype == "text/plain"
+    payload = {
+        "element": {"shape": "slab", "thickness_m": 1.5},
+        "mix": {"cement_kg_m3": 360, "water_kg_m3": 155},
+        "placement": {"temperature_c": 18},
+        "ambient": {"daily_min_c": 10, "daily_max_c": 20, "wind_m_s": 2.0},
+        "faces": {"top": {"insulation_r_m2k_w": 0.5}},
+        "ground": {"deep_temperature_c": 15},
+        "duration_h": 48,
+    }
+    summary = client.post(URL, json=payload).get_json()["summary"]
+    assert float(value.get_data(as_text=True)) == summary["peak_temperature_c"]
+
+
+@pytest.mark.parametrize(
+    ("query", "field"),
+    [
+        (QUERY + "&value=colour", "value"),
+        (QUERY.replace("thickness_m=1.5&", ""), "thickness_m"),
+        (QUERY.replace("cement_kg_m3=360", "cement_kg_m3=abc"), "cement_kg_m3"),
+        (QUERY + "&bogus=1", "bogus"),
+        (QUERY + "&units=metric", "units"),
+    ],
+)
+def test_spreadsheet_errors_name_the_parameter(client, query, field):
+    response = client.get(query)
+    assert response.status_code == 422
+    assert field in [e["field"] for e in response.get_json()["errors"]]
+
+
+def test_index_page_links_the_api(client):
+    response = client.get("/")
+    assert response.status_code == 200
+    text = response.get_data(as_text=True)
+    assert "/openapi.json" in text and "engineer of record" in text
