@@ -3,7 +3,7 @@
 import multiprocessing
 import os
 
-bind = f"127.0.0.1:{os.environ.get('PORT', '8000')}"
+bind = f"{os.environ.get('POURHEAT_BIND', '127.0.0.1')}:{os.environ.get('PORT', '8000')}"
 workers = int(os.environ.get("POURHEAT_WORKERS", min(4, multiprocessing.cpu_count() * 2)))
 timeout = int(os.environ.get("POURHEAT_TIMEOUT_S", "60"))
 graceful_timeout = 30

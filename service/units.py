@@ -39,10 +39,11 @@ MPH_M_S = 0.44704
 # NIST SP 811 (2008), App. B.8: mile per hour (mi/h) to meter per second (m/s),
 # 4.4704 E-01 (exact).
 
-LB_YD3_KG_M3 = 0.5932763
-"""1 lb/yd3 = 0.5932763 kg/m3 [(kg/m3)/(lb/yd3)]."""
+LB_YD3_KG_M3 = 0.5932764
+"""1 lb/yd3 = 0.5932764 kg/m3 [(kg/m3)/(lb/yd3)]."""
 # NIST SP 811 (2008), App. B.8: pound per cubic yard (lb/yd3) to kilogram per cubic meter
-# (kg/m3), 5.932 763 E-01.
+# (kg/m3), 5.932 764 E-01 (0.45359237 kg / 0.9144**3 m3 = 0.593 276 42..., rounded; not
+# 5.932 763).
 
 LB_FT3_KG_M3 = 16.01846
 """1 lb/ft3 = 16.01846 kg/m3 [(kg/m3)/(lb/ft3)]."""
