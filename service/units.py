@@ -9,8 +9,9 @@ SI request it produces and names the field that is wrong.
 Renaming is by key suffix (see :data:`SUFFIXES`); a few keys are exceptions (see
 :data:`EXCEPTIONS`). Temperatures need their context: a value is a temperature *difference*
 (converted by the factor 1.8 alone) when its key or any ancestor key contains one of
-:data:`DIFFERENCE_WORDS`, or its key starts with ``margin_`` or ends with ``rise_c``; every
-other ``_c`` value is an absolute temperature (T_F = 1.8 T_C + 32).
+:data:`DIFFERENCE_WORDS` (or has a word of :data:`DIFFERENCE_TOKENS`), or its key starts with
+``margin_`` or ends with ``rise_c``; every other ``_c`` value is an absolute temperature
+(T_F = 1.8 T_C + 32). Dicts keyed by names (:data:`NAME_KEYED`) keep their keys.
 
 Conversion factors are those of NIST Special Publication 811 (2008 edition), *Guide for the
 Use of the International System of Units (SI)*, Appendix B: B.8, factors for units listed
@@ -145,10 +146,14 @@ UNCHANGED_SUFFIXES = ("_h", "_pct", "_j_mol", "_m2_kg")
 """Suffixes kept in US requests and responses: hours, percentages, activation energy [J/mol]
 and Blaine fineness [m2/kg]. Checked before :data:`SUFFIXES`."""
 
-DIFFERENCE_WORDS = ("differential", "spread", "rms", "error")
+DIFFERENCE_WORDS = ("differential", "spread")
 """A ``_c`` value whose key or any ancestor key contains one of these is a temperature
-difference. "rms" and "error" cover fit errors (a calibration's RMS error in C is a
-difference)."""
+difference."""
+
+DIFFERENCE_TOKENS = ("rms", "rmse", "error", "range")
+"""A ``_c`` value whose key or any ancestor key has one of these as a whole ``_``-separated
+word is a temperature difference too: fit errors, such as a calibration's RMS error in C, and
+ranges such as the spreadsheet query's daily ``air_range_c``."""
 
 NAME_KEYED = {"sensors": "_c", "faces_c": "_c"}
 """Dicts keyed by names (sensor ids, face names), with the SI suffix of their values. Their
@@ -234,7 +239,10 @@ def is_temperature_difference(key: str, ancestors: tuple[str, ...] = ()) -> bool
     """
     if key.startswith("margin_") or key.endswith("rise_c"):
         return True
-    return any(word in name for name in (*ancestors, key) for word in DIFFERENCE_WORDS)
+    names = (*ancestors, key)
+    if any(word in name for name in names for word in DIFFERENCE_WORDS):
+        return True
+    return any(token in DIFFERENCE_TOKENS for name in names for token in name.split("_"))
 
 
 def _number_to_us(value: float, rule: Suffix, difference: bool) -> float:

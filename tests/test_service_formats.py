@@ -80,3 +80,40 @@ def test_index_page_links_the_api(client):
     assert response.status_code == 200
     text = response.get_data(as_text=True)
     assert "/openapi.json" in text and "engineer of record" in text
+
+
+def test_us_units_round_trip_the_contract(client, contract_scenario):
+    """The contract slab posted in US units gives the SI forecast converted (NIST SP 811)."""
+    from service.units import request_to_us
+
+    si = client.post(URL, json=contract_scenario).get_json()
+    us = client.post(URL, json=request_to_us(contract_scenario), query_string={"units": "us"})
+    assert us.status_code == 200
+    summary = us.get_json()["summary"]
+    assert summary["peak_temperature_f"] == pytest.approx(
+        si["summary"]["peak_temperature_c"] * 1.8 + 32, abs=0.01
+    )
+    assert summary["max_differential_f"] == pytest.approx(
+        si["summary"]["max_differential_c"] * 1.8, abs=0.01
+    )
+
+
+def test_us_units_errors_name_the_us_field(client, contract_scenario):
+    from service.units import request_to_us
+
+    payload = request_to_us(contract_scenario)
+    payload["element"]["thickness_ft"] = -3
+    response = client.post(URL, json=payload, query_string={"units": "us"})
+    assert response.status_code == 422
+    assert "element.thickness_ft" in [e["field"] for e in response.get_json()["errors"]]
+
+
+def test_us_spreadsheet_value(client):
+    query = (
+        "/v1/forecasts?units=us&shape=slab&thickness_ft=5&cement_lb_yd3=600&water_lb_yd3=260"
+        "&placement_f=65&air_mean_f=60&air_range_f=18&top_r_hft2f_btu=3&duration_h=48"
+        "&value=peak_temperature_f"
+    )
+    response = client.get(query)
+    assert response.status_code == 200
+    assert 65.0 < float(response.get_data(as_text=True)) < 212.0
