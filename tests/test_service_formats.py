@@ -117,3 +117,19 @@ def test_us_spreadsheet_value(client):
     response = client.get(query)
     assert response.status_code == 200
     assert 65.0 < float(response.get_data(as_text=True)) < 212.0
+
+
+def test_csv_and_values_carry_the_caution_header(client):
+    for query in (QUERY, QUERY + "&value=max_differential_c"):
+        response = client.get(query)
+        assert "engineer of record" in response.headers["Pourheat-Caution"]
+
+
+def test_compute_budget_refuses_with_advice(app, contract_scenario):
+    """A grid x steps beyond the configured budget is a 422 that says how to coarsen."""
+    app.config["MAX_CELL_STEPS"] = 1000
+    response = app.test_client().post(URL, json=contract_scenario)
+    assert response.status_code == 422
+    error = response.get_json()["errors"][0]
+    assert error["field"] == "resolution"
+    assert "coarsen" in error["message"] and "max_cell_m" in error["message"]

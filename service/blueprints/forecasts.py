@@ -10,7 +10,7 @@ from typing import Any
 from flask import Blueprint, Response, current_app, g, jsonify, request
 from werkzeug.exceptions import BadRequest, NotAcceptable
 
-from service.convert import forecast_csv
+from service.convert import CAUTIONS, forecast_csv
 from service.errors import InvalidScenarioError
 from service.forecasting import run_forecast
 from service.spreadsheet import SpreadsheetQueryIn
@@ -53,6 +53,11 @@ def _format(default: str) -> str:
     return next(name for name, media in MEDIA_TYPES.items() if media == best)
 
 
+def _caution_header() -> dict[str, str]:
+    """Formats without room for the cautions carry the first one as a header."""
+    return {"Pourheat-Caution": CAUTIONS[0]}
+
+
 def _render(body: dict[str, Any], fmt: str) -> Response:
     """The forecast body in the requested format and units."""
     us = g.units == "us"
@@ -62,7 +67,7 @@ def _render(body: dict[str, Any], fmt: str) -> Response:
             from service.units import csv_to_us
 
             text = csv_to_us(text)
-        return Response(text, mimetype="text/csv")
+        return Response(text, mimetype="text/csv", headers=_caution_header())
     shown = body
     if us:
         from service.units import body_to_us
@@ -74,7 +79,11 @@ def _render(body: dict[str, Any], fmt: str) -> Response:
         from service.charts import render_chart
     except ImportError as error:  # the optional [plot] extra is not installed
         raise NotAcceptable("charts need matplotlib: install pourheat[plot]") from error
-    return Response(render_chart(shown, fmt, units=g.units), mimetype=MEDIA_TYPES[fmt])
+    return Response(
+        render_chart(shown, fmt, units=g.units),
+        mimetype=MEDIA_TYPES[fmt],
+        headers=_caution_header(),
+    )
 
 
 def _to_si(payload: Any) -> Any:
@@ -132,4 +141,4 @@ def query_forecast() -> Response:
         raise InvalidScenarioError(
             [{"field": "value", "message": f"expected one of {sorted(scalars)}"}]
         )
-    return Response(f"{scalars[value]}", mimetype="text/plain")
+    return Response(f"{scalars[value]}", mimetype="text/plain", headers=_caution_header())
