@@ -5,7 +5,7 @@ from typing import Any
 from flask import Flask
 
 from service import errors
-from service.blueprints import forecasts, health, meta
+from service.blueprints import forecasts, health, meta, plans
 from service.forecasting import DEFAULT_MAX_CELL_STEPS
 
 DEFAULT_MAX_BODY_BYTES = 2 * 1024 * 1024
@@ -26,4 +26,5 @@ def create_app(test_config: dict[str, Any] | None = None) -> Flask:
     app.register_blueprint(health.bp)
     app.register_blueprint(forecasts.bp)
     app.register_blueprint(meta.bp)
+    app.register_blueprint(plans.bp)
     return app

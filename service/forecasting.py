@@ -1,22 +1,31 @@
-"""Run a forecast request end to end: validate, check, convert, guard the compute budget, solve.
+"""Run forecast requests end to end: validate, check, convert, guard the compute budget, solve.
 
 Shared by the HTTP blueprints and the command line so both answer the same way.
 """
 
 import math
+from dataclasses import asdict
 from typing import Any
 
+import numpy as np
+
 from model.grid import cell_count
+from model.results import Summary
 from model.scenario import Scenario
-from model.solver import ConvergenceError, ThermalSolver
+from model.solver import ConvergenceError, ThermalSolver, forecast
+from model.uncertainty import Spreads, percentiles, sample_scenarios
 from service.checks import cross_field_errors
 from service.convert import forecast_json, scenario_from
 from service.errors import InvalidScenarioError
-from service.schemas import ScenarioIn
+from service.parallel import map_in_processes
+from service.schemas import ScenarioIn, UncertainScenarioIn
 
 DEFAULT_MAX_CELL_STEPS = 40_000_000
-"""Largest grid cells x time steps one request may cost (about 15 s on one core); a setting
+"""Largest grid cells x time steps one forecast may cost (about 15 s on one core); a setting
 (POURHEAT_MAX_CELL_STEPS)."""
+BATCH_BUDGET_FACTOR = 8
+"""Requests that run many forecasts (plans, comparisons, uncertainty bands) may cost this many
+times the single-forecast budget in all."""
 HYDRATION_STEPS = 250
 """Typical number of extra steps the solver takes to resolve the hydration peak."""
 
@@ -26,33 +35,80 @@ def estimated_steps(scenario: Scenario) -> int:
     return math.ceil(scenario.duration_h / scenario.settings.max_step_h) + HYDRATION_STEPS
 
 
-def check_budget(scenario: Scenario, max_cell_steps: float) -> None:
-    """Refuse a scenario whose grid x steps would exceed the budget, saying how to coarsen."""
+def check_budget(
+    scenario: Scenario, max_cell_steps: float, runs: int = 1, field: str = "resolution"
+) -> None:
+    """Refuse work whose grid x steps x runs would exceed the budget, saying how to coarsen."""
     cells = cell_count(scenario)
-    cost = cells * estimated_steps(scenario)
-    if cost > max_cell_steps:
+    cost = cells * estimated_steps(scenario) * runs
+    budget = max_cell_steps * (1 if runs == 1 else BATCH_BUDGET_FACTOR)
+    if cost > budget:
         res = scenario.settings
-        raise InvalidScenarioError(
-            [
-                {
-                    "field": "resolution",
-                    "message": (
-                        f"the grid would have {cells} cells and about "
-                        f"{estimated_steps(scenario)} steps ({cost:.3g} cell-steps), more than "
-                        f"the budget of {max_cell_steps:.3g}; coarsen it, e.g. resolution."
-                        f"max_cell_m {2 * res.max_cell_m:g}, surface_cell_m "
-                        f"{2 * res.surface_cell_m:g}, growth {min(1.5, res.growth + 0.1):g}, "
-                        "or shorten duration_h, or model a slab or section instead of a block"
-                    ),
-                }
-            ]
+        runs_text = f" x {runs} forecasts" if runs > 1 else ""
+        advice = (
+            f"coarsen it, e.g. resolution.max_cell_m {2 * res.max_cell_m:g}, surface_cell_m "
+            f"{2 * res.surface_cell_m:g}, growth {min(1.5, res.growth + 0.1):g}, or shorten "
+            "duration_h, or model a slab or section instead of a block"
         )
+        if runs > 1:
+            advice += ", or ask for fewer runs"
+        message = (
+            f"the grid would have {cells} cells and about {estimated_steps(scenario)} steps"
+            f"{runs_text} ({cost:.3g} cell-steps), more than the budget of {budget:.3g}; {advice}"
+        )
+        raise InvalidScenarioError([{"field": field, "message": message}])
+
+
+def validated_scenario(
+    payload: Any, schema: type[ScenarioIn] = ScenarioIn
+) -> tuple[ScenarioIn, Scenario, str]:
+    """Validate a scenario payload: (request model, model scenario, hydration origin).
+
+    Raises pydantic.ValidationError for an invalid field, InvalidScenarioError for conflicts.
+    """
+    scenario_in = schema.model_validate(payload)
+    problems = cross_field_errors(scenario_in)
+    if problems:
+        raise InvalidScenarioError(problems)
+    scenario, origin = scenario_from(scenario_in)
+    return scenario_in, scenario, origin
+
+
+def solve(scenario: Scenario):
+    """Run one forecast; a solver failure becomes a 422 naming the scenario."""
+    try:
+        return ThermalSolver(scenario).run()
+    except ConvergenceError as error:
+        raise InvalidScenarioError(
+            [{"field": "(scenario)", "message": f"{error}; try a smaller resolution.max_step_h"}]
+        ) from error
+
+
+def _summary_of(scenario: Scenario) -> Summary:
+    return forecast(scenario).summary
+
+
+def uncertainty_band(scenario: Scenario, spreads: Spreads, samples: int, seed: int) -> dict:
+    """P10/P50/P90 of peak and maximum differential over a Latin hypercube of forecasts."""
+    summaries = map_in_processes(_summary_of, sample_scenarios(scenario, spreads, samples, seed))
+    peaks = np.array([s.peak_temperature_c for s in summaries])
+    diffs = np.array([s.max_differential_c for s in summaries])
+    return {
+        "samples": samples,
+        "seed": seed,
+        "method": "Latin hypercube of whole forecasts",
+        "spreads": asdict(spreads),
+        "peak_temperature_c": {k: round(v, 3) for k, v in percentiles(peaks).items()},
+        "max_differential_c": {k: round(v, 3) for k, v in percentiles(diffs).items()},
+    }
 
 
 def run_forecast(
     payload: Any, max_cell_steps: float = DEFAULT_MAX_CELL_STEPS
 ) -> tuple[ScenarioIn, dict[str, Any]]:
     """Validate a scenario payload and forecast it; returns the request and the response body.
+
+    With ``uncertainty`` in the payload the body's summary also has an ``uncertainty`` band.
 
     Raises
     ------
@@ -61,16 +117,17 @@ def run_forecast(
     InvalidScenarioError
         Fields conflict, the compute budget is exceeded, or the solver failed to converge.
     """
-    scenario_in = ScenarioIn.model_validate(payload)
-    problems = cross_field_errors(scenario_in)
-    if problems:
-        raise InvalidScenarioError(problems)
-    scenario, origin = scenario_from(scenario_in)
+    scenario_in, scenario, origin = validated_scenario(payload, UncertainScenarioIn)
+    band = scenario_in.uncertainty  # type: ignore[attr-defined]
     check_budget(scenario, max_cell_steps)
-    try:
-        result = ThermalSolver(scenario).run()
-    except ConvergenceError as error:
-        raise InvalidScenarioError(
-            [{"field": "(scenario)", "message": f"{error}; try a finer resolution.max_step_h"}]
-        ) from error
-    return scenario_in, forecast_json(scenario_in, scenario, result, origin)
+    if band is not None:
+        check_budget(scenario, max_cell_steps, band.samples, "uncertainty.samples")
+    body = forecast_json(scenario_in, scenario, solve(scenario), origin)
+    if band is not None:
+        spreads = Spreads(
+            band.placement_sd_c, band.air_sd_c, band.total_heat_rel_sd, band.tau_rel_sd
+        )
+        body["summary"]["uncertainty"] = uncertainty_band(
+            scenario, spreads, band.samples, band.seed
+        )
+    return scenario_in, body

@@ -302,3 +302,78 @@ class ScenarioIn(Strict):
     resolution: ResolutionIn | None = F(
         "Numerical settings (defaults suit typical pours)", default=None
     )
+
+
+class UncertaintyIn(Strict):
+    """Spreads of the uncertain inputs for a P10/P50/P90 band (Latin hypercube of whole
+    forecasts)."""
+
+    samples: int = F("Number of whole forecasts", 32, ge=8, le=200, default=32)
+    seed: int = F("Random seed (same seed, same band)", 1, ge=0, default=1)
+    placement_sd_c: float = F(
+        "Standard deviation of the placement temperature [C]", 1.0, ge=0, le=10, default=1.0
+    )
+    air_sd_c: float = F(
+        "Standard deviation of the air temperature [C]", 2.0, ge=0, le=15, default=2.0
+    )
+    total_heat_rel_sd: float = F(
+        "Relative standard deviation of Hu [-]", 0.05, ge=0, le=0.5, default=0.05
+    )
+    tau_rel_sd: float = F(
+        "Relative standard deviation of tau [-]", 0.10, ge=0, le=0.5, default=0.10
+    )
+
+
+class UncertainScenarioIn(ScenarioIn):
+    """A forecast request, optionally with an uncertainty band."""
+
+    uncertainty: UncertaintyIn | None = F("Ask for a P10/P50/P90 band", default=None)
+
+
+Control = Literal[
+    "max_placement_temperature_c",
+    "min_top_insulation_r_m2k_w",
+    "earliest_insulation_removal_h",
+    "max_thickness_m",
+]
+
+
+class BatchIn(Strict):
+    """Constituents of 1 m3 and their temperatures, for the fresh concrete temperature."""
+
+    aggregate_kg_m3: float = F("Dry aggregate [kg/m3]", 1850, gt=0, le=3000)
+    aggregate_c: float = F("Aggregate temperature [C]", 30.0, ge=-20, le=70)
+    cement_kg_m3: float = F("Cementitious materials [kg/m3]", 380, gt=0, le=1500)
+    cement_c: float = F("Cementitious materials temperature [C]", 50.0, ge=-20, le=100)
+    water_kg_m3: float = F("Free mixing water including any ice [kg/m3]", 160, gt=0, le=500)
+    water_c: float = F("Batch water temperature [C]", 20.0, ge=0, le=90)
+    aggregate_moisture_kg_m3: float = F(
+        "Free water on the aggregate [kg/m3]", 30, ge=0, le=300, default=0.0
+    )
+
+
+class PlanIn(Strict):
+    """A planning request: which controls to solve for, under which limits."""
+
+    scenario: ScenarioIn = F("The base scenario")
+    solve_for: list[Control] = F(
+        "Controls to solve for", ["max_placement_temperature_c"], min_length=1, max_length=4
+    )
+    limits: LimitsIn | None = F("Limits; default: the scenario's", default=None)
+    precooling: BatchIn | None = F(
+        "Batch constituents: also return the ice or chilled water that brings the fresh "
+        "concrete to the max placement temperature found",
+        default=None,
+    )
+
+
+class ComparisonIn(Strict):
+    """A base scenario and named variants, each a partial override of the base."""
+
+    base: dict[str, Any] = F("The base scenario (as for POST /v1/forecasts)")
+    variants: dict[str, dict[str, Any]] = F(
+        'Named partial overrides merged into the base, e.g. {"cooler": {"placement": '
+        '{"temperature_c": 15}}}',
+        min_length=1,
+        max_length=20,
+    )
