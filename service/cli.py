@@ -164,6 +164,58 @@ def cmd_forecast(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+UNMET_STATUSES = ("missed_over_range", "peak_limit_binds")
+
+
+def format_plan(body: dict[str, Any]) -> str:
+    """A short human summary of a plan body: each control's value or why there is none."""
+    lines = []
+    for control, answer in body["controls"].items():
+        value = answer.get("value")
+        shown = f"{value:g}" if value is not None else "none"
+        tolerance = answer.get("tolerance")
+        within = f" (+-{tolerance:g})" if tolerance is not None and value is not None else ""
+        lines.append(f"{control}: {shown}{within} [{answer['status']}] {answer['note']}")
+    if "precooling" in body:
+        pre = body["precooling"]
+        lines.append(
+            f"Fresh concrete {pre['fresh_concrete_c']} C; to reach {pre['target_c']} C: ice "
+            f"{pre.get('ice_kg_m3')} kg/m3 or chilled water {pre.get('chilled_water_c')} C"
+        )
+    lines.extend(f"Caution: {caution}" for caution in body.get("cautions", []))
+    return "\n".join(lines)
+
+
+def cmd_plan(args: argparse.Namespace) -> int:
+    """``pourheat plan``: solve for controls on a scenario file; print each answer."""
+    try:
+        scenario = read_scenario(args.scenario)
+    except InputError as error:
+        print(f"pourheat: {error}", file=sys.stderr)
+        return EXIT_BAD_INPUT
+    from service.planning import run_plan
+
+    try:
+        body = run_plan({"scenario": scenario, "solve_for": args.solve}, max_cell_steps_setting())
+    except (ValidationError, InvalidScenarioError) as error:
+        _print_errors(
+            validation_errors(error) if isinstance(error, ValidationError) else error.errors
+        )
+        return EXIT_BAD_INPUT
+    if args.json:
+        try:
+            Path(args.json).write_text(json.dumps(body, indent=2) + "\n", encoding="utf-8")
+        except OSError as error:
+            print(f"pourheat: cannot write output: {error}", file=sys.stderr)
+            return EXIT_OUTPUT_ERROR
+    print(format_plan(body))
+    unmet = [c for c, a in body["controls"].items() if a["status"] in UNMET_STATUSES]
+    if unmet and args.fail_on_limit:
+        print(f"pourheat: limits cannot be met by: {', '.join(unmet)}", file=sys.stderr)
+        return EXIT_LIMIT_EXCEEDED
+    return EXIT_OK
+
+
 def find_gunicorn_conf() -> Path | None:
     """deploy/gunicorn.conf.py in the working directory or beside the source tree, if present."""
     candidates = (Path.cwd() / GUNICORN_CONF, Path(__file__).resolve().parents[1] / GUNICORN_CONF)
@@ -230,6 +282,34 @@ def build_parser() -> argparse.ArgumentParser:
         help="exit 3 when a limit (max temperature, max differential) is forecast exceeded",
     )
     fc.set_defaults(handler=cmd_forecast)
+
+    pl = sub.add_parser(
+        "plan",
+        help="solve for the controls that keep a pour inside its limits",
+        description="Solve for controls on a scenario (the JSON body of POST /v1/forecasts); "
+        "the limits are the scenario's `limits`.",
+        epilog=EPILOG,
+    )
+    pl.add_argument("scenario", metavar="SCENARIO.json", help='scenario file, or "-" for stdin')
+    pl.add_argument(
+        "--solve",
+        action="append",
+        required=True,
+        choices=(
+            "max_placement_temperature_c",
+            "min_top_insulation_r_m2k_w",
+            "earliest_insulation_removal_h",
+            "max_thickness_m",
+        ),
+        help="control to solve for (repeat for several)",
+    )
+    pl.add_argument("--json", metavar="FILE", help="write the full JSON response to FILE")
+    pl.add_argument(
+        "--fail-on-limit",
+        action="store_true",
+        help="exit 3 when a control cannot meet the limits over its whole range",
+    )
+    pl.set_defaults(handler=cmd_plan)
 
     sv = sub.add_parser(
         "serve",

@@ -12,8 +12,8 @@ from typing import Any
 
 from pydantic.json_schema import models_json_schema
 
-from service.responses import ForecastOut, ProblemOut
-from service.schemas import ScenarioIn
+from service.responses import ComparisonOut, ForecastOut, PlanOut, ProblemOut
+from service.schemas import ComparisonIn, PlanIn, UncertainScenarioIn
 from service.spreadsheet import SpreadsheetQueryIn
 
 REF = "#/components/schemas/{model}"
@@ -69,7 +69,15 @@ def _query_parameters() -> list[dict[str, Any]]:
 def build_spec() -> dict[str, Any]:
     """The OpenAPI document as a dict."""
     _, definitions = models_json_schema(
-        [(ScenarioIn, "validation"), (ForecastOut, "serialization"), (ProblemOut, "serialization")],
+        [
+            (UncertainScenarioIn, "validation"),
+            (PlanIn, "validation"),
+            (ComparisonIn, "validation"),
+            (ForecastOut, "serialization"),
+            (PlanOut, "serialization"),
+            (ComparisonOut, "serialization"),
+            (ProblemOut, "serialization"),
+        ],
         ref_template=REF,
     )
     forecast_content = {
@@ -150,7 +158,7 @@ def build_spec() -> dict[str, Any]:
                         "required": True,
                         "content": {
                             "application/json": {
-                                "schema": {"$ref": "#/components/schemas/ScenarioIn"}
+                                "schema": {"$ref": "#/components/schemas/UncertainScenarioIn"}
                             }
                         },
                     },
@@ -176,6 +184,63 @@ def build_spec() -> dict[str, Any]:
                         **_problems(422),
                     },
                 },
+            },
+            "/v1/plans": {
+                "post": {
+                    "summary": "Solve for the controls that keep a pour inside its limits",
+                    "description": "Each control is a bracketed root search (brentq) on whole "
+                    "forecasts; the answer meets the limits and one tolerance beyond misses them. "
+                    + CAUTION,
+                    "operationId": "createPlan",
+                    "requestBody": {
+                        "required": True,
+                        "content": {
+                            "application/json": {"schema": {"$ref": "#/components/schemas/PlanIn"}}
+                        },
+                    },
+                    "responses": {
+                        "200": {
+                            "description": "One answer per control",
+                            "content": {
+                                "application/json": {
+                                    "schema": {"$ref": "#/components/schemas/PlanOut"}
+                                }
+                            },
+                        },
+                        **_problems(400, 413, 422),
+                    },
+                }
+            },
+            "/v1/comparisons": {
+                "post": {
+                    "summary": "Compare variants of a scenario side by side",
+                    "description": "Variants are partial overrides merged into the base; the "
+                    "forecasts run in parallel. " + CAUTION,
+                    "operationId": "createComparison",
+                    "parameters": [
+                        {**format_parameter, "schema": {"type": "string", "enum": ["json", "csv"]}}
+                    ],
+                    "requestBody": {
+                        "required": True,
+                        "content": {
+                            "application/json": {
+                                "schema": {"$ref": "#/components/schemas/ComparisonIn"}
+                            }
+                        },
+                    },
+                    "responses": {
+                        "200": {
+                            "description": "One row per variant",
+                            "content": {
+                                "application/json": {
+                                    "schema": {"$ref": "#/components/schemas/ComparisonOut"}
+                                },
+                                "text/csv": {"schema": {"type": "string"}},
+                            },
+                        },
+                        **_problems(400, 413, 422),
+                    },
+                }
             },
         },
         "components": {"schemas": definitions["$defs"]},

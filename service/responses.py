@@ -31,6 +31,27 @@ class LimitsOut(Out):
     max_differential_c: LimitStatusOut = F("Differential limit")
 
 
+class PercentilesOut(Out):
+    """Percentiles of a sampled quantity."""
+
+    p10: float = F("10th percentile", 70.1)
+    p50: float = F("Median", 72.8)
+    p90: float = F("90th percentile", 76.3)
+
+
+class UncertaintyOut(Out):
+    """Band of the forecast over sampled inputs."""
+
+    samples: int = F("Number of whole forecasts run", 32)
+    seed: int = F("Random seed", 1)
+    method: str = F("Sampling method", "Latin hypercube of whole forecasts")
+    spreads: dict[str, float] = F(
+        "Standard deviations used (C, or relative)", {"placement_sd_c": 1.0}
+    )
+    peak_temperature_c: PercentilesOut = F("Peak temperature percentiles [C]")
+    max_differential_c: PercentilesOut = F("Maximum differential percentiles [C]")
+
+
 class SummaryOut(Out):
     """Extremes of the forecast, over every solver step."""
 
@@ -48,6 +69,7 @@ class SummaryOut(Out):
         "Equivalent age at 21.1 C at the coolest near-surface point [h]", 250.0
     )
     limits: LimitsOut = F("Each limit: met or not, margin, first time exceeded")
+    uncertainty: UncertaintyOut | None = F("P10/P50/P90 band, when asked for", default=None)
 
 
 class SeriesOut(Out):
@@ -131,3 +153,84 @@ class ProblemOut(Out):
     status: int = F("HTTP status", 422)
     detail: str = F("Explanation", "1 field(s) are invalid: see errors")
     errors: list[FieldErrorOut] | None = F("Each invalid field", default=None)
+
+
+class PlanSummaryOut(Out):
+    """Forecast summary at a control's value."""
+
+    peak_temperature_c: float = F("Peak temperature [C]", 69.9)
+    peak_time_h: float = F("When [h]", 86.5)
+    max_differential_c: float = F("Maximum differential [C]", 10.6)
+    max_differential_time_h: float = F("When [h]", 194.0)
+    max_spread_c: float = F("Maximum hottest-minus-coolest [C]", 11.3)
+    max_spread_time_h: float = F("When [h]", 190.5)
+    min_surface_temperature_c: float = F("Lowest near-surface temperature [C]", 17.2)
+    final_core_equivalent_age_h: float = F("Equivalent age at the hottest point [h]", 2284.0)
+    final_surface_equivalent_age_h: float = F("Equivalent age near the surface [h]", 1550.0)
+
+
+class ControlOut(Out):
+    """The answer for one control."""
+
+    value: float | None = F("The control's value (C, m2 K/W, h or m), null if none", 17.26)
+    status: str = F(
+        "found, met_over_range, missed_over_range, peak_limit_binds or not_applicable", "found"
+    )
+    tolerance: float | None = F("Resolution of the value (same unit)", 0.25, default=None)
+    range: list[float] | None = F("Range searched", [2.0, 40.0], default=None)
+    temperature_margin_c: float | None = F(
+        "Peak limit minus peak at the value [C]", 0.07, default=None
+    )
+    differential_margin_c: float | None = F(
+        "Differential limit minus maximum at the value [C]", 8.4, default=None
+    )
+    summary: PlanSummaryOut | None = F("Forecast summary at the value", default=None)
+    forecasts_run: int | None = F("Whole forecasts the search took", 7, default=None)
+    note: str = F("Plain-language explanation", "most permissive value that meets the limits")
+
+
+class PrecoolingOut(Out):
+    """Fresh concrete temperature and the cooling to reach the target."""
+
+    method: str = F("Formula used", "heat balance of ACI 305R / ACI 207.4R (SI form)")
+    fresh_concrete_c: float = F("Fresh concrete temperature of the batch as given [C]", 29.9)
+    target_c: float | None = F("Target: the max placement temperature found [C]", 17.3)
+    ice_kg_m3: float | None = F(
+        "Ice replacing batch water to reach the target [kg/m3]", 52.0, default=None
+    )
+    chilled_water_c: float | None = F(
+        "Batch water temperature reaching the target without ice [C]; null if below 1 C",
+        None,
+        default=None,
+    )
+    note: str | None = F("Why a value is missing", default=None)
+
+
+class PlanOut(Out):
+    """Answers of a plan request."""
+
+    limits: dict[str, float] = F(
+        "Limits used [C]", {"max_temperature_c": 70.0, "max_differential_c": 19.0}
+    )
+    controls: dict[str, ControlOut] = F("One answer per control requested")
+    cautions: list[str] = F("Cautions that go with every plan", ["Limits come from ..."])
+    precooling: PrecoolingOut | None = F("Pre-cooling, when batch data were given", default=None)
+
+
+class ComparisonRowOut(Out):
+    """Summary of one variant."""
+
+    model_config = ConfigDict(extra="allow")
+
+    variant: str = F("Variant name (base first)", "base")
+    peak_temperature_c: float = F("Peak temperature [C]", 72.8)
+    max_differential_c: float = F("Maximum differential [C]", 11.2)
+    max_temperature_c_met: bool = F("Peak limit met", False)
+    max_differential_c_met: bool = F("Differential limit met", True)
+
+
+class ComparisonOut(Out):
+    """One row per variant."""
+
+    rows: list[ComparisonRowOut] = F("Rows, the base first")
+    cautions: list[str] = F("Cautions", ["Limits come from ..."])

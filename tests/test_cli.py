@@ -173,3 +173,17 @@ def test_subprocess_exit_codes(tmp_path, low_limits):
     assert run.returncode == 3, run.stderr
     assert "Peak temperature:" in run.stdout
     assert csv_path.read_text(encoding="utf-8").startswith("time_h,core_c")
+
+
+def test_plan_prints_each_control_and_exits_0(tmp_path, scenario, capsys):
+    path = write_scenario(tmp_path, scenario)
+    assert cli.main(["plan", str(path), "--solve", "max_placement_temperature_c"]) == 0
+    out = capsys.readouterr().out
+    assert "max_placement_temperature_c:" in out and "engineer of record" in out
+
+
+def test_plan_fail_on_limit_exits_3_when_no_value_meets(tmp_path, low_limits, capsys):
+    path = write_scenario(tmp_path, low_limits)
+    code = cli.main(["plan", str(path), "--solve", "max_thickness_m", "--fail-on-limit"])
+    assert code == 3
+    assert "cannot be met" in capsys.readouterr().err

@@ -65,3 +65,22 @@ def test_problem_responses_match_the_contract(client, payload, spec):
     assert response.mimetype == "application/problem+json"
     errors = list(_validator(spec, "ProblemOut").iter_errors(response.get_json()))
     assert not errors, [e.message for e in errors]
+
+
+def test_plan_and_comparison_responses_match_the_contract(client, contract_scenario, spec):
+    contract_scenario["duration_h"] = 72
+    plan = client.post(
+        "/v1/plans", json={"scenario": contract_scenario, "solve_for": ["max_thickness_m"]}
+    ).get_json()
+    assert not list(_validator(spec, "PlanOut").iter_errors(plan))
+    comparison = client.post(
+        "/v1/comparisons",
+        json={
+            "base": contract_scenario,
+            "variants": {"cool": {"placement": {"temperature_c": 15}}},
+        },
+    ).get_json()
+    assert not list(_validator(spec, "ComparisonOut").iter_errors(comparison))
+    contract_scenario["uncertainty"] = {"samples": 8}
+    band = client.post("/v1/forecasts", json=contract_scenario).get_json()
+    assert not list(_validator(spec, "ForecastOut").iter_errors(band))
