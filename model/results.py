@@ -82,6 +82,8 @@ class Forecast:
     core_equivalent_age_h: NDArray[np.float64]
     surface_equivalent_age_h: NDArray[np.float64]
     core_degree_of_hydration: NDArray[np.float64]
+    mean_c: NDArray[np.float64]
+    sensors_equivalent_age_h: dict[str, NDArray[np.float64]]
     core_nurse_saul_ch: NDArray[np.float64]
     surface_nurse_saul_ch: NDArray[np.float64]
     summary: Summary

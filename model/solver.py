@@ -343,6 +343,9 @@ class _Recorder:
     def __init__(self, solver: ThermalSolver) -> None:
         self.solver = solver
         self.concrete_cells = np.flatnonzero(solver.network.is_concrete)
+        volumes = solver.network.volume_m3[self.concrete_cells]
+        self.volume_weights = volumes / volumes.sum()
+        self.mean: list[float] = []
         self.time_h: list[float] = []
         self.loss_w: list[float] = []
         self.core: list[float] = []
@@ -359,6 +362,7 @@ class _Recorder:
         self.loss_w.append(loss_w)
         self.core.append(float(t_conc.max()))
         self.coolest.append(float(t_conc.min()))
+        self.mean.append(float(self.volume_weights @ t_conc))
         self.samples.append(self.solver.sampler.matrix @ state.temperature_c)
         self.core_te.append(float(state.equivalent_age_h[hottest]))
         self.core_alpha.append(float(state.alpha[hottest]))
@@ -411,6 +415,10 @@ class _Recorder:
             core_equivalent_age_h=np.array(self.core_te)[keep],
             surface_equivalent_age_h=surface_te[keep],
             core_degree_of_hydration=np.array(self.core_alpha)[keep],
+            mean_c=np.array(self.mean)[keep],
+            sensors_equivalent_age_h={
+                s: np.array(self.sample_te)[keep, row] for s, row in sampler.sensor_rows.items()
+            },
             core_nurse_saul_ch=core_ns[keep],
             surface_nurse_saul_ch=surface_ns[keep],
             summary=summary,

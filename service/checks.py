@@ -88,6 +88,38 @@ def cross_field_errors(s: ScenarioIn) -> list[dict[str, str]]:
             add(f"faces.{name}", "a slab has only top and bottom faces")
         if name in ("front", "back") and el.shape == "section":
             add(f"faces.{name}", "a section has top, bottom, left and right faces (or sides)")
+    if s.cracking is not None and s.strength is None:
+        add("strength", "the cracking screening needs a strength-maturity relation")
+    if s.strength is not None:
+        errors.extend(_strength_errors(s))
     if s.ground is not None and s.faces.bottom is not None:
         add("faces.bottom", "with a ground layer the bottom rests on the ground; omit faces.bottom")
     return errors
+
+
+STRENGTH_COEFFICIENTS = {"exponential": ("tau_h", "beta"), "hyperbolic": ("rate_per_h", "offset_h")}
+MIN_LAB_CYLINDERS = 4
+
+
+def _strength_errors(s: ScenarioIn) -> list[dict[str, str]]:
+    strength = s.strength
+    assert strength is not None
+    if strength.lab is not None:
+        if len(strength.lab) < MIN_LAB_CYLINDERS:
+            return [
+                {
+                    "field": "strength.lab",
+                    "message": f"at least {MIN_LAB_CYLINDERS} "
+                    "cylinders are needed to fit the relation",
+                }
+            ]
+        return []
+    needed = ("ultimate_mpa", *STRENGTH_COEFFICIENTS[strength.form])
+    return [
+        {
+            "field": f"strength.{name}",
+            "message": f"required for the {strength.form} form (or give lab data)",
+        }
+        for name in needed
+        if getattr(strength, name) is None
+    ]

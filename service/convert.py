@@ -23,6 +23,7 @@ from model.scenario import (
     default_resolution,
 )
 from service.schemas import FaceIn, MixIn, ScenarioIn
+from service.screening_json import screening_parts
 
 DEFAULT_DENSITY_KG_M3 = 2400.0
 """Density of normal-weight concrete used to infer the aggregate mass when not given [kg/m3]
@@ -198,6 +199,9 @@ def forecast_json(
         "faces_c": {name: _rounded(v) for name, v in result.faces_c.items()},
         "sensors": {name: _rounded(v) for name, v in result.sensors_c.items()},
     }
+    more_summary, more_series = screening_parts(request, scenario, result)
+    summary.update(more_summary)
+    series.update(more_series)
     return {
         "summary": summary,
         "series": series,
@@ -210,6 +214,14 @@ def forecast_json(
         },
     }
 
+
+OPTIONAL_CSV_COLUMNS = (
+    "core_strength_mpa",
+    "surface_strength_mpa",
+    "cracking_index",
+    "allowable_differential_c",
+)
+"""Columns present when the forecast asked for strength or cracking screening."""
 
 CSV_COLUMNS = (
     "time_h",
@@ -231,7 +243,8 @@ def forecast_csv(body: dict[str, Any]) -> str:
     sensors = series["sensors"]
     out = io.StringIO()
     writer = csv.writer(out, lineterminator="\n")
-    writer.writerow([*CSV_COLUMNS, *(f"sensor_{name}_c" for name in sensors)])
+    columns = [*CSV_COLUMNS, *(c for c in OPTIONAL_CSV_COLUMNS if c in series)]
+    writer.writerow([*columns, *(f"sensor_{name}_c" for name in sensors)])
     for i in range(len(series["time_h"])):
-        writer.writerow([series[c][i] for c in CSV_COLUMNS] + [v[i] for v in sensors.values()])
+        writer.writerow([series[c][i] for c in columns] + [v[i] for v in sensors.values()])
     return out.getvalue()

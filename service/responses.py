@@ -4,6 +4,8 @@ The service builds its bodies in :mod:`service.convert`; these models describe t
 field, with units. SI names are shown; with ``units=us`` the suffixes change (see the README).
 """
 
+from typing import Any
+
 from pydantic import BaseModel, ConfigDict
 
 from service.schemas import F
@@ -52,6 +54,44 @@ class UncertaintyOut(Out):
     max_differential_c: PercentilesOut = F("Maximum differential percentiles [C]")
 
 
+class StrengthTargetOut(Out):
+    """When each location reaches a target strength."""
+
+    target_mpa: float = F("Target compressive strength [MPa]", 10.0)
+    reached_h: dict[str, float | None] = F(
+        "Hours after placement at which core, surface and each sensor reach it (null: not "
+        "within the forecast) [h]",
+        {"core": 10.7, "surface": 10.9},
+    )
+
+
+class StrengthSummaryOut(Out):
+    """In-place strength from maturity (a screening estimate)."""
+
+    relation: dict[str, Any] = F(
+        "The strength-maturity relation used or fitted (MPa, h)",
+        {"form": "exponential", "ultimate_mpa": 45.0},
+    )
+    targets: list[StrengthTargetOut] = F("Time to each target strength")
+    final_core_mpa: float = F("Strength at the hottest point at the end [MPa]", 43.4)
+    final_surface_mpa: float = F("Strength at the near-surface point at the end [MPa]", 41.8)
+    caution: str = F("Screening caution", "Strength and cracking figures are screening ...")
+
+
+class CrackingSummaryOut(Out):
+    """Thermal cracking screening (a screening estimate)."""
+
+    max_index: float = F("Largest (internal + external stress) / tensile strength [-]", 0.8)
+    max_index_time_h: float = F("When [h]", 120.0)
+    max_internal_stress_mpa: float = F("Largest internal-restraint stress [MPa]", 2.1)
+    max_external_stress_mpa: float = F("Largest external-restraint stress [MPa]", 0.9)
+    min_allowable_differential_c: float | None = F(
+        "Smallest differential that keeps the index at max_index [C]", 31.2
+    )
+    settings: dict[str, float] = F("Screening settings used", {"internal_restraint": 0.42})
+    caution: str = F("Screening caution", "Strength and cracking figures are screening ...")
+
+
 class SummaryOut(Out):
     """Extremes of the forecast, over every solver step."""
 
@@ -70,6 +110,8 @@ class SummaryOut(Out):
     )
     limits: LimitsOut = F("Each limit: met or not, margin, first time exceeded")
     uncertainty: UncertaintyOut | None = F("P10/P50/P90 band, when asked for", default=None)
+    strength: StrengthSummaryOut | None = F("In-place strength, when asked for", default=None)
+    cracking: CrackingSummaryOut | None = F("Cracking screening, when asked for", default=None)
 
 
 class SeriesOut(Out):
@@ -104,6 +146,29 @@ class SeriesOut(Out):
     )
     sensors: dict[str, list[float]] = F(
         "Temperature at each requested sensor [C]", {"S1": [20.0, 20.1, 20.3]}
+    )
+    core_strength_mpa: list[float] | None = F(
+        "In-place strength at the hottest point [MPa]", [0.0, 0.0, 0.1], default=None
+    )
+    surface_strength_mpa: list[float] | None = F(
+        "In-place strength near the surface [MPa]", [0.0, 0.0, 0.1], default=None
+    )
+    sensors_strength_mpa: dict[str, list[float]] | None = F(
+        "In-place strength at each sensor [MPa]", {"S1": [0.0, 0.0, 0.1]}, default=None
+    )
+    cracking_index: list[float | None] | None = F(
+        "Cracking index [-]", [0.0, 0.01, 0.02], default=None
+    )
+    internal_stress_mpa: list[float | None] | None = F(
+        "Internal-restraint stress [MPa]", [0.0, 0.0, 0.01], default=None
+    )
+    external_stress_mpa: list[float | None] | None = F(
+        "External-restraint stress [MPa]", [0.0, 0.0, 0.0], default=None
+    )
+    allowable_differential_c: list[float | None] | None = F(
+        "Differential keeping the index at max_index (null before strength) [C]",
+        [None, 40.0, 41.0],
+        default=None,
     )
 
 

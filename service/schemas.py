@@ -276,6 +276,71 @@ class ResolutionIn(Strict):
     max_step_h: float | None = F("Largest time step [h]", 1.0, ge=0.01, le=6.0, default=None)
 
 
+class LabCylinderIn(Strict):
+    """One lab strength test: age, curing temperature and strength."""
+
+    age_h: float = F("Age at test [h]", 72.0, gt=0, le=20000)
+    temperature_c: float = F("Curing temperature [C]", 23.0, ge=-10, le=90)
+    strength_mpa: float = F("Compressive strength [MPa]", 24.5, ge=0, le=200)
+
+
+class StrengthIn(Strict):
+    """Strength-maturity relation (ASTM C1074): coefficients, or lab data to fit them to."""
+
+    form: Literal["exponential", "hyperbolic"] = F(
+        "exponential: Su exp(-(tau/te)^beta); hyperbolic: Su k(t-t0)/(1+k(t-t0))",
+        "exponential",
+        default="exponential",
+    )
+    ultimate_mpa: float | None = F("Limiting strength Su [MPa]", 45.0, gt=0, le=200, default=None)
+    tau_h: float | None = F(
+        "Exponential form: time constant [h]", 30.0, gt=0, le=5000, default=None
+    )
+    beta: float | None = F("Exponential form: shape parameter [-]", 0.8, gt=0, le=5, default=None)
+    rate_per_h: float | None = F(
+        "Hyperbolic form: rate constant k [1/h]", 0.02, gt=0, le=10, default=None
+    )
+    offset_h: float | None = F(
+        "Hyperbolic form: age when strength gain starts t0 [h]", 6.0, ge=0, le=500, default=None
+    )
+    activation_energy_j_mol: float | None = F(
+        "Activation energy of the equivalent age [J/mol]; default: the hydration's",
+        41000,
+        ge=10000,
+        le=100000,
+        default=None,
+    )
+    lab: list[LabCylinderIn] | None = F(
+        "Lab cylinders to fit the relation to by least squares (instead of coefficients)",
+        max_length=500,
+        default=None,
+    )
+    targets_mpa: list[float] = F(
+        "Strengths whose time of attainment is wanted [MPa]",
+        [10.0],
+        max_length=10,
+        default_factory=list,
+    )
+
+
+class CrackingIn(Strict):
+    """Settings of the thermal cracking screening (needs `strength`)."""
+
+    thermal_expansion_per_k: float = F(
+        "Coefficient of thermal expansion [1/K]", 10e-6, gt=0, le=3e-5, default=10e-6
+    )
+    internal_restraint: float = F(
+        "Restraint of the near-surface layer by the core [-]", 0.42, ge=0, le=1, default=0.42
+    )
+    external_restraint: float = F(
+        "Restraint of the section by its base [-]", 0.5, ge=0, le=1, default=0.5
+    )
+    relaxation_factor: float = F("Creep (relaxation) factor [-]", 0.65, gt=0, le=1, default=0.65)
+    max_index: float = F(
+        "Cracking index for the allowable differential [-]", 1.0, gt=0, le=2, default=1.0
+    )
+
+
 class ScenarioIn(Strict):
     """A forecast request."""
 
@@ -302,6 +367,8 @@ class ScenarioIn(Strict):
     resolution: ResolutionIn | None = F(
         "Numerical settings (defaults suit typical pours)", default=None
     )
+    strength: StrengthIn | None = F("In-place strength from maturity", default=None)
+    cracking: CrackingIn | None = F("Thermal cracking screening (needs strength)", default=None)
 
 
 class UncertaintyIn(Strict):

@@ -39,6 +39,8 @@ MPH_M_S = 0.44704
 """1 mi/h = 0.44704 m/s exactly [(m/s)/(mi/h)]."""
 # NIST SP 811 (2008), App. B.8: mile per hour (mi/h) to meter per second (m/s),
 # 4.4704 E-01 (exact).
+PSI_MPA = 6.894757e-3
+"""1 pound-force per square inch in MPa (NIST SP 811, Appendix B.9: 1 psi = 6.894757 kPa)."""
 
 LB_YD3_KG_M3 = 0.5932764
 """1 lb/yd3 = 0.5932764 kg/m3 [(kg/m3)/(lb/yd3)]."""
@@ -124,6 +126,7 @@ SUFFIXES: tuple[Suffix, ...] = tuple(
             Suffix("_j_kg", "_btu_lb", BTU_LB_J_KG, LINEAR),  # heat of hydration
             Suffix("_w_m2", "_btu_hft2", BTU_HFT2_W_M2, LINEAR),  # solar irradiance
             Suffix("_m_s", "_mph", MPH_M_S, LINEAR),  # wind speed
+            Suffix("_mpa", "_psi", PSI_MPA, LINEAR),  # strength and stress
             Suffix("_ch", "_fh", 1.0 / F_PER_C, LINEAR),  # Nurse-Saul factor (difference x h)
             Suffix("_m", "_ft", FOOT_M, LINEAR),  # lengths
             Suffix("_c", "_f", 1.0 / F_PER_C, TEMPERATURE),  # temperatures

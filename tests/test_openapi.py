@@ -84,3 +84,16 @@ def test_plan_and_comparison_responses_match_the_contract(client, contract_scena
     contract_scenario["uncertainty"] = {"samples": 8}
     band = client.post("/v1/forecasts", json=contract_scenario).get_json()
     assert not list(_validator(spec, "ForecastOut").iter_errors(band))
+
+
+def test_strength_and_cracking_response_matches_the_contract(client, contract_scenario, spec):
+    contract_scenario["duration_h"] = 72
+    contract_scenario["strength"] = {
+        "ultimate_mpa": 45,
+        "tau_h": 30,
+        "beta": 0.8,
+        "targets_mpa": [10, 60],
+    }
+    contract_scenario["cracking"] = {}
+    body = client.post("/v1/forecasts", json=contract_scenario).get_json()
+    assert not [e.message for e in _validator(spec, "ForecastOut").iter_errors(body)]
