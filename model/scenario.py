@@ -56,6 +56,8 @@ class Face:
     film_coefficient_w_m2k : total surface coefficient replacing wind and radiation [W/(m2 K)]
     solar_absorptivity : fraction of solar irradiance absorbed on the outer face [-]
     emissivity : long-wave emissivity of the outer face [-]
+    conductance_factor : multiplier of the face's overall conductance, for calibration to
+        measured temperatures (1: as modelled) [-]
     """
 
     adiabatic: bool = False
@@ -66,6 +68,7 @@ class Face:
     film_coefficient_w_m2k: float | None = None
     solar_absorptivity: float = 0.0
     emissivity: float = CONCRETE_EMISSIVITY
+    conductance_factor: float = 1.0
 
     def resistance_m2k_w(self, time_h: float) -> float:
         """Resistance of what covers the face at a time [m2 K/W]."""

@@ -167,7 +167,9 @@ class ThermalSolver:
                     convection_coefficient_w_m2k(amb.wind_speed_m_s(time_h))
                     + radiation_coefficient_w_m2k(air, face.emissivity)
                 )
-            u = float(surface_conductance_w_m2k(film, face.resistance_m2k_w(time_h)))
+            u = face.conductance_factor * float(
+                surface_conductance_w_m2k(film, face.resistance_m2k_w(time_h))
+            )
             absorbed = face.solar_absorptivity * float(amb.irradiance_w_m2(time_h))
             out[label] = (
                 boundary_conductance_w_k(faces, conductivity, u),

@@ -1,0 +1,157 @@
+"""Monitoring of stored pours: calibrate to the readings so far, re-forecast, summarise status."""
+
+from dataclasses import replace
+from datetime import datetime
+from typing import Any
+
+import numpy as np
+
+from model.calibration import AIR_SENSOR, calibrate
+from model.planning import Limits, solve_control
+from service.convert import forecast_json
+from service.errors import InvalidScenarioError
+from service.forecasting import check_budget, solve, validated_scenario
+
+EXTRA_HORIZON_H = 48.0
+"""A re-forecast always looks at least this far past the latest reading [h]."""
+CALIBRATION_RUNS = 40
+"""Typical number of whole forecasts a calibration takes (for the compute budget)."""
+CURRENT_WINDOW_H = 2.0
+"""Readings this close to the latest one count as "current" in the status [h]."""
+
+
+def _arrays(readings: list[dict[str, Any]]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    hours = np.array([r["hours"] for r in readings], dtype=float)
+    sensors = np.array([r["sensor"] for r in readings], dtype=str)
+    temps = np.array([r["temperature_c"] for r in readings], dtype=float)
+    return hours, sensors, temps
+
+
+def pour_forecast(
+    pour: dict[str, Any],
+    readings: list[dict[str, Any]],
+    max_cell_steps: float,
+    fit_placement: bool = False,
+) -> dict[str, Any]:
+    """The forecast body of a stored pour, calibrated to its readings (planned if none)."""
+    scenario_in, scenario, origin = validated_scenario(pour["scenario"])
+    hours, sensors, temps = _arrays(readings)
+    now_h = float(hours.max()) if hours.size else 0.0
+    if now_h + EXTRA_HORIZON_H > scenario.duration_h:
+        scenario = replace(scenario, duration_h=float(np.ceil(now_h + EXTRA_HORIZON_H)))
+    check_budget(scenario, max_cell_steps, CALIBRATION_RUNS)
+    concrete_readings = int(np.count_nonzero(sensors != AIR_SENSOR))
+    calibration: dict[str, Any]
+    if concrete_readings == 0:
+        calibration = {
+            "status": "no readings yet: this is the planned forecast",
+            "readings_used": 0,
+        }
+    else:
+        try:
+            fit = calibrate(scenario, hours, sensors, temps, fit_placement)
+        except ValueError as error:
+            raise InvalidScenarioError([{"field": "readings", "message": str(error)}]) from error
+        scenario = fit.scenario
+        calibration = {
+            "status": "calibrated to the readings so far",
+            "values": {k: round(v, 4) for k, v in fit.values.items()},
+            "standard_errors": {k: round(v, 4) for k, v in fit.standard_errors.items()},
+            "rms_by_sensor_c": {k: round(v, 3) for k, v in fit.rms_by_sensor_c.items()},
+            "rms_c": round(fit.rms_c, 3),
+            "readings_used": fit.readings_used,
+            "air_readings_used": int(np.count_nonzero(sensors == AIR_SENSOR)),
+        }
+    result = solve(scenario)
+    body = forecast_json(scenario_in, scenario, result, origin)
+    limits = scenario_in.limits
+    body["calibration"] = calibration
+    body["now_h"] = round(now_h, 3)
+    body["differential_limit_exceeded_h"] = result.first_time_above_h(
+        "differential_c", limits.max_differential_c
+    )
+    body["earliest_insulation_removal_h"] = _earliest_removal(scenario, limits)
+    return body
+
+
+def _earliest_removal(scenario: Any, limits: Any) -> float | None:
+    if scenario.face("top").insulation_r_m2k_w <= 0:
+        return None
+    try:
+        found = solve_control(
+            scenario,
+            "earliest_insulation_removal_h",
+            Limits(limits.max_temperature_c, limits.max_differential_c),
+        )
+    except ValueError:
+        return None
+    return found.value
+
+
+def pour_status(
+    pour: dict[str, Any], readings: list[dict[str, Any]], body: dict[str, Any]
+) -> dict[str, Any]:
+    """Compact status for dashboards, from the readings and the calibrated forecast body."""
+    summary = body["summary"]
+    limits = summary["limits"]
+    current = _current(readings)
+    measured_max = max(current.values()) if current else None
+    measured_diff = (max(current.values()) - min(current.values())) if len(current) > 1 else None
+    t_limit = limits["max_temperature_c"]["limit_c"]
+    d_limit = limits["max_differential_c"]["limit_c"]
+    measured_over = (measured_max is not None and measured_max > t_limit) or (
+        measured_diff is not None and measured_diff > d_limit
+    )
+    forecast_over = not (limits["max_temperature_c"]["met"] and limits["max_differential_c"]["met"])
+    removal = body["earliest_insulation_removal_h"]
+    return {
+        "id": pour["id"],
+        "name": pour["name"],
+        "now_h": body["now_h"],
+        "measured_max_c": None if measured_max is None else round(measured_max, 2),
+        "measured_differential_c": None if measured_diff is None else round(measured_diff, 2),
+        "forecast_peak_c": summary["peak_temperature_c"],
+        "forecast_peak_time_h": summary["peak_time_h"],
+        "forecast_max_differential_c": summary["max_differential_c"],
+        "limits_met": not (measured_over or forecast_over),
+        "limit_measured_exceeded": bool(measured_over),
+        "limit_forecast_exceeded": bool(forecast_over),
+        "hours_until_insulation_removal": (
+            None if removal is None else round(max(removal - body["now_h"], 0.0), 1)
+        ),
+        "calibration": body["calibration"].get("status"),
+        "cautions": body["cautions"],
+    }
+
+
+def _current(readings: list[dict[str, Any]]) -> dict[str, float]:
+    """Latest concrete reading of each sensor within CURRENT_WINDOW_H of the latest one."""
+    concrete = [r for r in readings if r["sensor"] != AIR_SENSOR]
+    if not concrete:
+        return {}
+    latest = max(r["hours"] for r in concrete)
+    current: dict[str, tuple[float, float]] = {}
+    for r in concrete:
+        if r["hours"] >= latest - CURRENT_WINDOW_H:
+            seen = current.get(r["sensor"])
+            if seen is None or r["hours"] > seen[0]:
+                current[r["sensor"]] = (r["hours"], r["temperature_c"])
+    return {s: t for s, (_, t) in current.items()}
+
+
+def status_line(status: dict[str, Any]) -> str:
+    """One line for cron mail and logs."""
+    verdict = "LIMIT EXCEEDED" if not status["limits_met"] else "within limits"
+    removal = status["hours_until_insulation_removal"]
+    return (
+        f"{status['name']} at {status['now_h']:.1f} h: measured max "
+        f"{status['measured_max_c']} C, differential {status['measured_differential_c']} C; "
+        f"forecast peak {status['forecast_peak_c']} C at {status['forecast_peak_time_h']} h, "
+        f"max differential {status['forecast_max_differential_c']} C; {verdict}; insulation "
+        f"removal {'not planned' if removal is None else f'in {removal} h'}"
+    )
+
+
+def hours_since(placed_at: datetime, time: datetime) -> float:
+    """Hours from placement to a time [h]."""
+    return (time - placed_at).total_seconds() / 3600.0
