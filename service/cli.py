@@ -80,10 +80,60 @@ def _limit_name(key: str) -> str:
     return key.removesuffix("_c").removesuffix("_f").replace("_", " ")
 
 
-def format_summary(body: dict[str, Any], unit: str = "C") -> str:
-    """A short human summary of a forecast body: peak, differential, limits, cautions.
+def _strength(record: dict[str, Any], stem: str) -> tuple[float | None, str]:
+    """``record[stem_psi]`` with unit "psi" if present (a US body), else ``record[stem_mpa]``
+    with "MPa"; the value is None when neither is given."""
+    if record.get(f"{stem}_psi") is not None:
+        return record[f"{stem}_psi"], "psi"
+    return record.get(f"{stem}_mpa"), "MPa"
 
-    ``unit`` is "C" for the SI body, "F" for a body converted by ``service.units.body_to_us``.
+
+def _screening_lines(s: dict[str, Any], unit: str) -> list[str]:
+    """Summary lines for in-place strength and cracking screening, when the summary has them.
+    Strengths are in psi where the body's keys end ``_psi`` (a US body), else in MPa;
+    temperatures are in ``unit``."""
+    lines = []
+    cautions: list[str] = []
+    if "strength" in s:
+        strength = s["strength"]
+        for target in strength.get("targets", []):
+            value, shown = _strength(target, "target")
+            amount = f"{value:.0f}" if shown == "psi" else f"{value:g}"
+            reached = ", ".join(
+                f"{where} {hours:.1f} h" if hours is not None else f"{where} not reached"
+                for where, hours in target["reached_h"].items()
+            )
+            lines.append(f"Strength {amount} {shown} reached: {reached}")
+        finals = []
+        for where in ("core", "surface"):
+            value, shown = _strength(strength, f"final_{where}")
+            if value is not None:
+                amount = f"{value:.0f}" if shown == "psi" else f"{value:.1f}"
+                finals.append(f"{where} {amount} {shown}")
+        if finals:
+            lines.append(f"Final in-place strength: {', '.join(finals)}")
+        cautions.append(strength.get("caution"))
+    if "cracking" in s:
+        cracking = s["cracking"]
+        line = f"Cracking index (screening): max {cracking['max_index']:.2f}"
+        if cracking.get("max_index_time_h") is not None:
+            line += f" at {cracking['max_index_time_h']:g} h"
+        allowable = _value(cracking, "min_allowable_differential", unit.lower())
+        if allowable is not None:
+            line += f"; smallest allowable differential {allowable:.1f} {unit}"
+        lines.append(line)
+        cautions.append(cracking.get("caution"))
+    unique = [c for i, c in enumerate(cautions) if c and c not in cautions[:i]]
+    lines.extend(f"Caution: {caution}" for caution in unique)
+    return lines
+
+
+def format_summary(body: dict[str, Any], unit: str = "C") -> str:
+    """A short human summary of a forecast body: peak, differential, limits, cautions, and
+    in-place strength and cracking screening when the forecast has them.
+
+    ``unit`` is "C" for the SI body, "F" for a body converted by ``service.units.body_to_us``
+    (whose strengths, keys ``*_psi``, are shown in psi).
     """
     s = body["summary"]
     suffix = unit.lower()
@@ -103,6 +153,7 @@ def format_summary(body: dict[str, Any], unit: str = "C") -> str:
             if status.get("first_exceeded_h") is not None:
                 verdict += f", first at {status['first_exceeded_h']:.1f} h"
         lines.append(f"Limit {_limit_name(key)} {limit:g} {unit}: {verdict}")
+    lines.extend(_screening_lines(s, unit))
     lines.extend(f"Caution: {caution}" for caution in body.get("cautions", []))
     return "\n".join(lines)
 

@@ -1,4 +1,5 @@
-"""Forecast charts: SVG and PNG output from a synthetic forecast body (invented numbers)."""
+"""Forecast charts: SVG and PNG output from a synthetic forecast body (invented numbers),
+with and without the strength and cracking screening panel."""
 
 import io
 import math
@@ -7,7 +8,7 @@ import xml.etree.ElementTree as ET
 import matplotlib.image
 import pytest
 
-from service.charts import CAPTION, PNG_DPI, render_chart
+from service.charts import CAPTION, PNG_DPI, SCREENING_FIGURE_HEIGHT_IN, render_chart
 
 SVG_NS = "{http://www.w3.org/2000/svg}"
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
@@ -101,3 +102,75 @@ def test_measured_points_are_overlaid() -> None:
 def test_unknown_format_or_units_rejected(fmt: str, units: str) -> None:
     with pytest.raises(ValueError):
         render_chart(synthetic_body(), fmt, units=units)
+
+
+SCREENING_CAUTION = "Strength and cracking figures are screening estimates (invented caution)."
+
+
+def screening_body(units: str = "si") -> dict:
+    """The synthetic body with in-place strength (10 MPa target) and cracking screening added;
+    the cracking index rises past its 1.0 limit at 21 h. Numbers are invented; ``"us"`` gives
+    strengths in psi."""
+    body = synthetic_body(units)
+    series, time_h = body["series"], body["series"]["time_h"]
+    to_unit, s = (1.0, "mpa") if units == "si" else (145.0377, "psi")
+    core = [40.0 * (1.0 - math.exp(-t / 10.0)) * to_unit for t in time_h]
+    surface = [36.0 * (1.0 - math.exp(-t / 12.0)) * to_unit for t in time_h]
+    series[f"core_strength_{s}"] = core
+    series[f"surface_strength_{s}"] = surface
+    series[f"sensors_strength_{s}"] = {}
+    series["cracking_index"] = [None] + [t / 20.0 for t in time_h[1:]]
+    body["summary"]["strength"] = {
+        "targets": [{f"target_{s}": 10.0 * to_unit, "reached_h": {"core": 2.9, "surface": 3.5}}],
+        f"final_core_{s}": core[-1],
+        f"final_surface_{s}": surface[-1],
+        "caution": SCREENING_CAUTION,
+    }
+    body["summary"]["cracking"] = {
+        "max_index": 1.2,
+        "max_index_time_h": 24.0,
+        "settings": {"max_index": 1.0},
+        "caution": SCREENING_CAUTION,
+    }
+    return body
+
+
+def test_screening_panel_shows_cracking_index_and_strength() -> None:
+    texts = svg_texts(render_chart(screening_body(), "svg"))
+    assert "Cracking index" in texts
+    assert "Cracking index limit 1" in texts
+    assert "exceeded at 21 h" in texts
+    assert "In-place strength (MPa)" in texts
+    assert "target 10 MPa" in texts
+    assert {"Core strength", "Near-surface strength", "Target strength"} <= set(texts)
+    assert CAPTION in texts
+    assert texts.count(SCREENING_CAUTION) == 1  # once, though strength and cracking both give it
+
+
+def test_screening_png_is_taller() -> None:
+    image = matplotlib.image.imread(io.BytesIO(render_chart(screening_body(), "png")))
+    assert image.shape[:2] == (
+        round(SCREENING_FIGURE_HEIGHT_IN * PNG_DPI),
+        round(8.0 * PNG_DPI),
+    )
+    assert SCREENING_FIGURE_HEIGHT_IN > 5.5
+
+
+@pytest.mark.parametrize("fmt", ["svg", "png"])
+def test_screening_rendering_is_repeatable(fmt: str) -> None:
+    body = screening_body()
+    assert render_chart(body, fmt) == render_chart(body, fmt)
+
+
+def test_screening_us_units_show_psi() -> None:
+    texts = svg_texts(render_chart(screening_body("us"), "svg", units="us"))
+    assert "In-place strength (psi)" in texts
+    assert "target 1450 psi" in texts
+
+
+def test_cracking_without_strength_has_no_strength_axis() -> None:
+    body = screening_body()
+    del body["series"]["core_strength_mpa"], body["summary"]["strength"]
+    texts = svg_texts(render_chart(body, "svg"))
+    assert "Cracking index limit 1" in texts
+    assert not any("strength" in text for text in texts)

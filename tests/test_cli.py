@@ -187,3 +187,57 @@ def test_plan_fail_on_limit_exits_3_when_no_value_meets(tmp_path, low_limits, ca
     code = cli.main(["plan", str(path), "--solve", "max_thickness_m", "--fail-on-limit"])
     assert code == 3
     assert "cannot be met" in capsys.readouterr().err
+
+
+def test_forecast_prints_strength_and_cracking_screening(tmp_path, scenario, capsys):
+    scenario["strength"] = {"ultimate_mpa": 45, "tau_h": 30, "beta": 0.8, "targets_mpa": [10]}
+    scenario["cracking"] = {}
+    path = write_scenario(tmp_path, scenario)
+    assert cli.main(["forecast", str(path)]) == 0
+    lines = capsys.readouterr().out.splitlines()
+    reached = next(line for line in lines if line.startswith("Strength 10 MPa reached: "))
+    assert "core " in reached and "surface " in reached
+    assert any(line.startswith("Final in-place strength: core ") for line in lines)
+    cracking = next(line for line in lines if line.startswith("Cracking index (screening): max "))
+    assert "smallest allowable differential" in cracking and cracking.endswith(" C")
+    assert sum("screening estimates" in line for line in lines if line.startswith("Caution:")) == 1
+
+
+def test_summary_of_screening_in_us_units_and_unreached_targets():
+    """format_summary on a hand-made US body (no forecast run): psi and F, "not reached"."""
+    caution = "Screening only."
+    body = {
+        "summary": {
+            "peak_temperature_f": 160.0,
+            "peak_time_h": 30.0,
+            "max_differential_f": 30.0,
+            "max_differential_time_h": 40.0,
+            "limits": {},
+            "strength": {
+                "targets": [
+                    {
+                        "target_psi": 1450.377,
+                        "reached_h": {"core": 10.72, "surface": None, "sensor S1": 12.0},
+                    }
+                ],
+                "final_core_psi": 6290.287,
+                "final_surface_psi": 6151.051,
+                "caution": caution,
+            },
+            "cracking": {
+                "max_index": 1.218,
+                "max_index_time_h": 168.0,
+                "min_allowable_differential_f": 56.16,
+                "caution": caution,
+            },
+        },
+        "cautions": [],
+    }
+    lines = cli.format_summary(body, "F").splitlines()
+    assert "Strength 1450 psi reached: core 10.7 h, surface not reached, sensor S1 12.0 h" in lines
+    assert "Final in-place strength: core 6290 psi, surface 6151 psi" in lines
+    assert (
+        "Cracking index (screening): max 1.22 at 168 h; smallest allowable differential 56.2 F"
+        in lines
+    )
+    assert lines.count(f"Caution: {caution}") == 1
