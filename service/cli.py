@@ -267,6 +267,74 @@ def cmd_plan(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+DEFAULT_SERVER = "http://127.0.0.1:8000"
+HTTP_TIMEOUT_S = 120.0
+
+
+def _http(
+    method: str, url: str, data: bytes | None = None, content_type: str | None = None
+) -> tuple[int, Any]:
+    """One HTTP request with the standard library: (status, parsed JSON body or text)."""
+    import urllib.error
+    import urllib.request
+
+    req = urllib.request.Request(url, data=data, method=method)
+    if content_type:
+        req.add_header("Content-Type", content_type)
+    try:
+        with urllib.request.urlopen(req, timeout=HTTP_TIMEOUT_S) as response:
+            status, raw = response.status, response.read()
+    except urllib.error.HTTPError as error:
+        status, raw = error.code, error.read()
+    try:
+        return status, json.loads(raw)
+    except ValueError:
+        return status, raw.decode("utf-8", "replace")
+
+
+def cmd_watch(args: argparse.Namespace) -> int:
+    """``pourheat watch``: post new readings of a pour, print its status line.
+
+    Exit 3 when a limit is measured or forecast to be exceeded, 2 when the server refuses the
+    input (4xx), 1 when it cannot be reached or fails.
+    """
+    from service.monitoring import status_line
+
+    base = f"{args.server.rstrip('/')}/v1/pours/{args.pour}"
+    try:
+        if args.readings:
+            data = Path(args.readings).read_bytes()
+            status, body = _http("POST", f"{base}/readings", data, "text/csv")
+            if status >= 400:
+                _report_problem(status, body)
+                return EXIT_BAD_INPUT if status < 500 else EXIT_OUTPUT_ERROR
+            print(
+                f"readings: {body['accepted']} new, {body['duplicates']} already stored, "
+                f"{len(body['rejected'])} rejected"
+            )
+            for row in body["rejected"]:
+                print(
+                    f"rejected row {row['row']}: {row['field']}: {row['message']}", file=sys.stderr
+                )
+        status, body = _http("GET", f"{base}/status")
+    except OSError as error:
+        print(f"pourheat: cannot reach {args.server}: {error}", file=sys.stderr)
+        return EXIT_OUTPUT_ERROR
+    if status >= 400:
+        _report_problem(status, body)
+        return EXIT_BAD_INPUT if status < 500 else EXIT_OUTPUT_ERROR
+    print(status_line(body))
+    return EXIT_LIMIT_EXCEEDED if not body["limits_met"] else EXIT_OK
+
+
+def _report_problem(status: int, body: Any) -> None:
+    if isinstance(body, dict):
+        print(f"pourheat: HTTP {status}: {body.get('detail', '')}", file=sys.stderr)
+        _print_errors(body.get("errors") or [])
+    else:
+        print(f"pourheat: HTTP {status}: {body}", file=sys.stderr)
+
+
 def find_gunicorn_conf() -> Path | None:
     """deploy/gunicorn.conf.py in the working directory or beside the source tree, if present."""
     candidates = (Path.cwd() / GUNICORN_CONF, Path(__file__).resolve().parents[1] / GUNICORN_CONF)
@@ -361,6 +429,18 @@ def build_parser() -> argparse.ArgumentParser:
         help="exit 3 when a control cannot meet the limits over its whole range",
     )
     pl.set_defaults(handler=cmd_plan)
+
+    wt = sub.add_parser(
+        "watch",
+        help="post new readings of a stored pour and print its status (for cron)",
+        description="Post a data-logger CSV (time,sensor,temperature_c) to a stored pour, then "
+        "print its calibrated status. Exit 3 when a limit is measured or forecast exceeded.",
+        epilog=EPILOG,
+    )
+    wt.add_argument("--pour", required=True, help="pour id")
+    wt.add_argument("--readings", metavar="FILE.csv", help="readings to post (optional)")
+    wt.add_argument("--server", default=DEFAULT_SERVER, help=f"default {DEFAULT_SERVER}")
+    wt.set_defaults(handler=cmd_watch)
 
     sv = sub.add_parser(
         "serve",

@@ -1,0 +1,127 @@
+"""Monitoring a stored pour: readings made by the model from a 'true' pour whose heat and top
+insulation differ from the plan; re-forecast, status, idempotent re-posting, cron exit codes."""
+
+import copy
+import json
+
+import numpy as np
+import pytest
+
+from service import cli
+from service.app import create_app
+from tests.conftest import CONTRACT_SCENARIO
+
+PLACED_AT = "2026-11-02T07:00:00-05:00"  # 12:00 UTC
+SENSORS = [
+    {"id": "T1", "depth_m": 0.05},
+    {"id": "T2", "depth_m": 1.0},
+    {"id": "T3", "depth_m": 1.95},
+]
+
+
+@pytest.fixture
+def app(tmp_path):
+    return create_app({"TESTING": True, "DATABASE": str(tmp_path / "m.sqlite3")})
+
+
+@pytest.fixture
+def client(app):
+    return app.test_client()
+
+
+def _plan():
+    scenario = copy.deepcopy(CONTRACT_SCENARIO)
+    scenario["sensors"] = SENSORS
+    scenario["duration_h"] = 168
+    return scenario
+
+
+def _truth_csv(client, hours=48):
+    """Hourly readings of the true pour (Hu +12 %, top insulation half as good), 0.15 C noise."""
+    truth = _plan()
+    truth["mix"]["hydration"]["total_heat_j_kg"] *= 1.12
+    truth["faces"]["top"]["insulation_r_m2k_w"] = 0.25
+    body = client.post("/v1/forecasts", json=truth).get_json()
+    rng = np.random.default_rng(5)
+    lines = ["time,sensor,temperature_c"]
+    for h in range(1, hours + 1):
+        day, hour = divmod(12 + h, 24)
+        stamp = f"2026-11-{2 + day:02d}T{hour:02d}:00:00Z"
+        for sensor in ("T1", "T2", "T3"):
+            value = body["series"]["sensors"][sensor][h] + rng.normal(0.0, 0.15)
+            lines.append(f"{stamp},{sensor},{value:.2f}")
+    return "\n".join(lines) + "\n", body["summary"]
+
+
+def _create(client):
+    response = client.post(
+        "/v1/pours", json={"name": "Mat A", "placed_at": PLACED_AT, "scenario": _plan()}
+    )
+    assert response.status_code == 201
+    return response.get_json()["id"]
+
+
+def test_reforecast_moves_to_the_truth(client):
+    pour = _create(client)
+    planned = client.get(f"/v1/pours/{pour}/forecast").get_json()
+    assert planned["calibration"]["readings_used"] == 0
+    assert "planned" in planned["calibration"]["status"]
+    csv_text, truth = _truth_csv(client)
+    posted = client.post(f"/v1/pours/{pour}/readings", data=csv_text, content_type="text/csv")
+    assert posted.get_json()["accepted"] == 144
+    again = client.post(f"/v1/pours/{pour}/readings", data=csv_text, content_type="text/csv")
+    assert again.get_json() == {"accepted": 0, "duplicates": 144, "rejected": []}
+    body = client.get(f"/v1/pours/{pour}/forecast").get_json()
+    calibration = body["calibration"]
+    assert calibration["readings_used"] == 144
+    assert calibration["rms_c"] < 0.3
+    assert set(calibration["rms_by_sensor_c"]) == {"T1", "T2", "T3"}
+    peak_truth = truth["peak_temperature_c"]
+    assert body["summary"]["peak_temperature_c"] == pytest.approx(peak_truth, abs=1.0)
+    assert abs(planned["summary"]["peak_temperature_c"] - peak_truth) > 3.0
+    assert body["now_h"] == pytest.approx(48.0)
+    for key in ("summary", "series", "cautions"):
+        assert key in body
+
+
+def test_status_and_chart(client):
+    pour = _create(client)
+    csv_text, _ = _truth_csv(client, hours=24)
+    client.post(f"/v1/pours/{pour}/readings", data=csv_text, content_type="text/csv")
+    status = client.get(f"/v1/pours/{pour}/status").get_json()
+    assert status["now_h"] == pytest.approx(24.0)
+    assert status["measured_max_c"] > status["measured_differential_c"] > 0
+    assert status["limit_forecast_exceeded"] is True  # the true pour runs past 70 C
+    assert status["limits_met"] is False
+    chart = client.get(f"/v1/pours/{pour}/forecast?format=svg")
+    assert chart.status_code == 200 and chart.data.startswith(b"<?xml")
+    assert b"Measured T1" in chart.data
+
+
+def test_unknown_pour_is_404(client):
+    assert client.get("/v1/pours/nope/forecast").status_code == 404
+    assert client.get("/v1/pours/nope/status").status_code == 404
+
+
+def test_watch_posts_readings_and_exits_3_on_a_limit(app, client, tmp_path, monkeypatch, capsys):
+    pour = _create(client)
+    csv_text, _ = _truth_csv(client, hours=24)
+    path = tmp_path / "logger.csv"
+    path.write_text(csv_text)
+    test_client = app.test_client()
+
+    def via_test_client(method, url, data=None, content_type=None):
+        route = url.split("127.0.0.1:8000", 1)[1]
+        response = test_client.open(route, method=method, data=data, content_type=content_type)
+        text = response.get_data(as_text=True)
+        try:
+            return response.status_code, json.loads(text)
+        except ValueError:
+            return response.status_code, text
+
+    monkeypatch.setattr(cli, "_http", via_test_client)
+    code = cli.main(["watch", "--pour", pour, "--readings", str(path)])
+    out = capsys.readouterr().out
+    assert code == 3
+    assert "72 new" in out and "LIMIT EXCEEDED" in out
+    assert cli.main(["watch", "--pour", "nope"]) == 2
