@@ -12,8 +12,19 @@ from typing import Any
 
 from pydantic.json_schema import models_json_schema
 
-from service.responses import ComparisonOut, ForecastOut, PlanOut, ProblemOut
-from service.schemas import ComparisonIn, PlanIn, UncertainScenarioIn
+from service.responses import (
+    ComparisonOut,
+    ForecastOut,
+    PlanOut,
+    PourCreatedOut,
+    PourForecastOut,
+    PourListOut,
+    PourStatusOut,
+    ProblemOut,
+    ReadingsOut,
+    ReadingsReportOut,
+)
+from service.schemas import ComparisonIn, PlanIn, PourIn, ReadingsIn, UncertainScenarioIn
 from service.spreadsheet import SpreadsheetQueryIn
 
 REF = "#/components/schemas/{model}"
@@ -65,6 +76,182 @@ def _query_parameters() -> list[dict[str, Any]]:
     return params
 
 
+def _json(name: str) -> dict[str, Any]:
+    return {"application/json": {"schema": {"$ref": f"#/components/schemas/{name}"}}}
+
+
+POUR_ID = {
+    "name": "pour_id",
+    "in": "path",
+    "required": True,
+    "description": "Pour id",
+    "schema": {"type": "string"},
+    "example": "3f9c2a7d81b4",
+}
+
+
+def _pour_paths() -> dict[str, Any]:
+    """Stored pours, readings, calibrated re-forecasts and status."""
+    csv_readings = {
+        "schema": {"type": "string"},
+        "example": "time,sensor,temperature_c\n2026-11-02T13:00:00Z,S1,31.2\n",
+    }
+    return {
+        "/v1/pours": {
+            "post": {
+                "summary": "Store a pour to monitor",
+                "operationId": "createPour",
+                "requestBody": {"required": True, "content": _json("PourIn")},
+                "responses": {
+                    "201": {
+                        "description": "Stored; Location gives its URL",
+                        "content": _json("PourCreatedOut"),
+                    },
+                    **_problems(400, 413, 422),
+                },
+            },
+            "get": {
+                "summary": "List stored pours",
+                "operationId": "listPours",
+                "parameters": [
+                    {
+                        "name": "archived",
+                        "in": "query",
+                        "required": False,
+                        "description": "Include archived pours",
+                        "schema": {"type": "boolean"},
+                        "example": False,
+                    }
+                ],
+                "responses": {"200": {"description": "Pours", "content": _json("PourListOut")}},
+            },
+        },
+        "/v1/pours/{pour_id}": {
+            "parameters": [POUR_ID],
+            "get": {
+                "summary": "A stored pour with its scenario, sensors and links",
+                "operationId": "showPour",
+                "responses": {
+                    "200": {
+                        "description": "The pour",
+                        "content": {"application/json": {"schema": {"type": "object"}}},
+                    },
+                    "404": {"description": "No such pour", "content": PROBLEM},
+                },
+            },
+            "delete": {
+                "summary": "Archive a pour (nothing is deleted)",
+                "operationId": "archivePour",
+                "responses": {
+                    "204": {"description": "Archived"},
+                    "404": {"description": "No such pour", "content": PROBLEM},
+                },
+            },
+        },
+        "/v1/pours/{pour_id}/readings": {
+            "parameters": [POUR_ID],
+            "post": {
+                "summary": "Store readings (JSON or CSV); duplicates are ignored, bad rows "
+                "reported one by one",
+                "operationId": "addReadings",
+                "requestBody": {
+                    "required": True,
+                    "content": {**_json("ReadingsIn"), "text/csv": csv_readings},
+                },
+                "responses": {
+                    "200": {
+                        "description": "What was stored",
+                        "content": _json("ReadingsReportOut"),
+                    },
+                    "404": {"description": "No such pour", "content": PROBLEM},
+                    "409": {"description": "Archived pour", "content": PROBLEM},
+                    **_problems(400, 413, 422),
+                },
+            },
+            "get": {
+                "summary": "Stored readings, JSON or CSV",
+                "operationId": "getReadings",
+                "parameters": [
+                    {
+                        "name": n,
+                        "in": "query",
+                        "required": False,
+                        "description": d,
+                        "schema": {"type": "string"},
+                        "example": e,
+                    }
+                    for n, d, e in (
+                        ("from", "From this time (ISO 8601 with offset)", "2026-11-02T12:00:00Z"),
+                        ("to", "Up to this time (ISO 8601 with offset)", "2026-11-04T12:00:00Z"),
+                        ("sensor", "Only this sensor", "S1"),
+                        ("format", "csv for CSV", "csv"),
+                    )
+                ],
+                "responses": {
+                    "200": {
+                        "description": "Readings",
+                        "content": {**_json("ReadingsOut"), "text/csv": csv_readings},
+                    },
+                    "404": {"description": "No such pour", "content": PROBLEM},
+                },
+            },
+        },
+        "/v1/pours/{pour_id}/forecast": {
+            "parameters": [POUR_ID],
+            "get": {
+                "summary": "Calibrate to the readings so far and forecast ahead",
+                "description": "Fits Hu, tau and the top-face conductance (and with "
+                "fit_placement=true the placement temperature) by bounded least squares "
+                "to the readings, then forecasts with measured air temperatures where "
+                "given. With no readings it is the planned forecast. " + CAUTION,
+                "operationId": "forecastPour",
+                "parameters": [
+                    {
+                        "name": "fit_placement",
+                        "in": "query",
+                        "required": False,
+                        "description": "Also fit the placement temperature",
+                        "schema": {"type": "boolean"},
+                        "example": False,
+                    },
+                    {
+                        "name": "format",
+                        "in": "query",
+                        "required": False,
+                        "description": "json, csv, svg or png",
+                        "schema": {"type": "string", "enum": ["json", "csv", "svg", "png"]},
+                        "example": "svg",
+                    },
+                ],
+                "responses": {
+                    "200": {
+                        "description": "The calibrated forecast",
+                        "content": {
+                            **_json("PourForecastOut"),
+                            "text/csv": {"schema": {"type": "string"}},
+                            "image/svg+xml": {"schema": {"type": "string"}},
+                        },
+                    },
+                    "404": {"description": "No such pour", "content": PROBLEM},
+                    **_problems(422),
+                },
+            },
+        },
+        "/v1/pours/{pour_id}/status": {
+            "parameters": [POUR_ID],
+            "get": {
+                "summary": "Compact status for dashboards",
+                "operationId": "pourStatus",
+                "responses": {
+                    "200": {"description": "Status", "content": _json("PourStatusOut")},
+                    "404": {"description": "No such pour", "content": PROBLEM},
+                    **_problems(422),
+                },
+            },
+        },
+    }
+
+
 @cache
 def build_spec() -> dict[str, Any]:
     """The OpenAPI document as a dict."""
@@ -77,6 +264,14 @@ def build_spec() -> dict[str, Any]:
             (PlanOut, "serialization"),
             (ComparisonOut, "serialization"),
             (ProblemOut, "serialization"),
+            (PourIn, "validation"),
+            (ReadingsIn, "validation"),
+            (PourCreatedOut, "serialization"),
+            (PourListOut, "serialization"),
+            (ReadingsReportOut, "serialization"),
+            (ReadingsOut, "serialization"),
+            (PourForecastOut, "serialization"),
+            (PourStatusOut, "serialization"),
         ],
         ref_template=REF,
     )
@@ -242,6 +437,7 @@ def build_spec() -> dict[str, Any]:
                     },
                 }
             },
+            **_pour_paths(),
         },
         "components": {"schemas": definitions["$defs"]},
     }

@@ -299,3 +299,101 @@ class ComparisonOut(Out):
 
     rows: list[ComparisonRowOut] = F("Rows, the base first")
     cautions: list[str] = F("Cautions", ["Limits come from ..."])
+
+
+class PourCreatedOut(Out):
+    """A stored pour's id."""
+
+    id: str = F("Pour id", "3f9c2a7d81b4")
+    name: str = F("Name", "Mat A, north half")
+    placed_at: str = F("Placement time, UTC", "2026-11-02T12:00:00Z")
+
+
+class PourSummaryOut(Out):
+    """A stored pour in a list."""
+
+    model_config = ConfigDict(extra="allow")
+
+    id: str = F("Pour id", "3f9c2a7d81b4")
+    name: str = F("Name", "Mat A, north half")
+    placed_at: str = F("Placement time, UTC", "2026-11-02T12:00:00Z")
+    archived: bool = F("Archived (read-only)", False)
+    readings_count: int = F("Number of stored readings", 144)
+    last_reading_time: str | None = F("Latest reading, UTC", "2026-11-04T12:00:00Z")
+
+
+class PourListOut(Out):
+    """Stored pours, latest placement first."""
+
+    pours: list[PourSummaryOut] = F("Pours")
+
+
+class RejectedRowOut(Out):
+    """A reading that was not stored, and why."""
+
+    row: int = F("0-based row of the upload", 3)
+    field: str = F("Offending field", "sensor")
+    message: str = F("Why", "unknown sensor 'S9'")
+
+
+class ReadingsReportOut(Out):
+    """What happened to an upload of readings."""
+
+    accepted: int = F("New readings stored", 140)
+    duplicates: int = F("Readings already stored (same sensor and time), not changed", 4)
+    rejected: list[RejectedRowOut] = F("Rows not stored, each with its reason")
+
+
+class ReadingOut(Out):
+    """A stored reading."""
+
+    time: str = F("Time, UTC", "2026-11-02T13:00:00Z")
+    sensor: str = F("Sensor id", "S1")
+    temperature_c: float = F("Temperature [C]", 31.2)
+    hours: float = F("Hours since placement [h]", 1.0)
+
+
+class ReadingsOut(Out):
+    """Stored readings, by time then sensor."""
+
+    readings: list[ReadingOut] = F("Readings")
+
+
+class PourForecastOut(ForecastOut):
+    """A re-forecast of a stored pour, calibrated to its readings."""
+
+    calibration: dict[str, Any] = F(
+        "status, fitted values (Hu and tau factors, top conductance factor, placement offset "
+        "C), their standard errors, RMS misfit per sensor and overall [C], readings used",
+        {"status": "calibrated to the readings so far", "rms_c": 0.18},
+    )
+    now_h: float = F("Hours since placement of the latest reading [h]", 48.0)
+    differential_limit_exceeded_h: float | None = F(
+        "When the differential limit is forecast to be exceeded, or null [h]", None
+    )
+    earliest_insulation_removal_h: float | None = F(
+        "Earliest hour the top insulation may come off without exceeding the differential "
+        "limit later, or null [h]",
+        190.0,
+    )
+
+
+class PourStatusOut(Out):
+    """Compact status of a pour for dashboards."""
+
+    id: str = F("Pour id", "3f9c2a7d81b4")
+    name: str = F("Name", "Mat A, north half")
+    now_h: float = F("Hours since placement of the latest reading [h]", 48.0)
+    measured_max_c: float | None = F("Hottest current reading [C]", 61.2)
+    measured_differential_c: float | None = F("Hottest minus coolest current reading [C]", 14.1)
+    forecast_peak_c: float = F("Forecast peak [C]", 66.0)
+    forecast_peak_time_h: float = F("When [h]", 70.0)
+    forecast_max_differential_c: float = F("Forecast maximum differential [C]", 18.2)
+    limits_met: bool = F("No limit measured or forecast to be exceeded", True)
+    limit_measured_exceeded: bool = F("A limit is exceeded by the readings", False)
+    limit_forecast_exceeded: bool = F("A limit is forecast to be exceeded", False)
+    hours_until_insulation_removal: float | None = F(
+        "Hours until the insulation may come off", 140.0
+    )
+    calibration: str | None = F("Calibration status", "calibrated to the readings so far")
+    cautions: list[str] = F("Cautions", ["Limits come from ..."])

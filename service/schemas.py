@@ -444,3 +444,25 @@ class ComparisonIn(Strict):
         min_length=1,
         max_length=20,
     )
+
+
+class PourIn(Strict):
+    """A pour to store and monitor (POST /v1/pours)."""
+
+    name: str = F("Name of the pour", "Mat A, north half", min_length=1, max_length=120)
+    placed_at: str = F("Placement time, ISO 8601 with a UTC offset", "2026-11-02T07:00:00-05:00")
+    scenario: ScenarioIn = F("The planned scenario; its sensors are the loggers' channels")
+
+
+class ReadingIn(Strict):
+    """One logged temperature."""
+
+    time: str = F("ISO 8601 time with a UTC offset", "2026-11-02T13:00:00Z")
+    sensor: str = F("A sensor id of the scenario, or 'air' for the air temperature", "S1")
+    temperature_c: float = F("Temperature [C]", 31.2, ge=-50, le=100)
+
+
+class ReadingsIn(Strict):
+    """Readings to store (JSON form; CSV with header time,sensor,temperature_c works too)."""
+
+    readings: list[ReadingIn] = F("Readings", min_length=1)

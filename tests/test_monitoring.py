@@ -125,3 +125,32 @@ def test_watch_posts_readings_and_exits_3_on_a_limit(app, client, tmp_path, monk
     assert code == 3
     assert "72 new" in out and "LIMIT EXCEEDED" in out
     assert cli.main(["watch", "--pour", "nope"]) == 2
+
+
+def test_pour_responses_match_the_contract(client):
+    """The stored-pour responses validate against openapi/openapi.yaml."""
+    from pathlib import Path
+
+    import yaml
+    from openapi_schema_validator import OAS31Validator
+
+    spec = yaml.safe_load(
+        (Path(__file__).resolve().parents[1] / "openapi" / "openapi.yaml").read_text()
+    )
+
+    def check(name, body):
+        schema = {"$ref": f"#/components/schemas/{name}", "components": spec["components"]}
+        assert not [e.message for e in OAS31Validator(schema).iter_errors(body)], name
+
+    pour = _create(client)
+    check("PourListOut", client.get("/v1/pours").get_json())
+    csv_text, _ = _truth_csv(client, hours=12)
+    check(
+        "ReadingsReportOut",
+        client.post(
+            f"/v1/pours/{pour}/readings", data=csv_text, content_type="text/csv"
+        ).get_json(),
+    )
+    check("ReadingsOut", client.get(f"/v1/pours/{pour}/readings").get_json())
+    check("PourForecastOut", client.get(f"/v1/pours/{pour}/forecast").get_json())
+    check("PourStatusOut", client.get(f"/v1/pours/{pour}/status").get_json())
