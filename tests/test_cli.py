@@ -12,26 +12,11 @@ from pathlib import Path
 import pytest
 
 from service import cli
+from tests.conftest import CONTRACT_SCENARIO
 
 SMALL_SCENARIO = {
+    **copy.deepcopy(CONTRACT_SCENARIO),
     "element": {"shape": "slab", "thickness_m": 1.0},
-    "mix": {
-        "cement_kg_m3": 380,
-        "water_kg_m3": 160,
-        "hydration": {
-            "total_heat_j_kg": 460000,
-            "tau_h": 13.0,
-            "beta": 0.9,
-            "alpha_u": 0.75,
-            "activation_energy_j_mol": 41000,
-        },
-        "density_kg_m3": 2400,
-        "specific_heat_j_kgk": 1000,
-        "conductivity_w_mk": 2.5,
-    },
-    "placement": {"temperature_c": 20.0},
-    "ambient": {"air_temperature_c": 20.0, "wind_m_s": 2.0},
-    "faces": {"top": {"insulation_r_m2k_w": 0.5}, "bottom": {"adiabatic": True}},
     "duration_h": 48,
     "limits": {"max_temperature_c": 85, "max_differential_c": 25},
 }

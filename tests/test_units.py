@@ -26,6 +26,7 @@ from service.units import (
     request_to_si,
     request_to_us,
 )
+from tests.conftest import CONTRACT_SCENARIO
 
 # Exact definitions, NIST SP 811 (2008), App. B.8.
 FT = 0.3048
@@ -36,29 +37,6 @@ BTU_IT = 1055.05585262
 F_INTERVAL_K = 5.0 / 9.0
 HOUR_S = 3600.0
 
-CONTRACT_SCENARIO = {
-    "element": {"shape": "slab", "thickness_m": 2.0},
-    "mix": {
-        "cement_kg_m3": 380,
-        "fly_ash_kg_m3": 0,
-        "slag_kg_m3": 0,
-        "water_kg_m3": 160,
-        "hydration": {
-            "total_heat_j_kg": 460000,
-            "tau_h": 13.0,
-            "beta": 0.9,
-            "alpha_u": 0.75,
-            "activation_energy_j_mol": 41000,
-        },
-        "density_kg_m3": 2400,
-        "specific_heat_j_kgk": 1000,
-        "conductivity_w_mk": 2.5,
-    },
-    "placement": {"temperature_c": 20.0},
-    "ambient": {"air_temperature_c": 20.0, "wind_m_s": 2.0},
-    "faces": {"top": {"insulation_r_m2k_w": 0.5}, "bottom": {"adiabatic": True}},
-    "duration_h": 168,
-}
 """The SI example request of /work/shared/DESIGN.md ("The part of the HTTP contract that
 external checks use"), copied here so that these tests do not depend on conftest."""
 
