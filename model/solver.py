@@ -26,6 +26,7 @@ Schindler, A. K. and Folliard, K. J. (2005), ACI Materials Journal 102(1), 24-33
 
 import logging
 import math
+import time
 from dataclasses import dataclass
 
 import numpy as np
@@ -72,6 +73,10 @@ _SECONDS_PER_HOUR = 3600.0
 
 class ConvergenceError(RuntimeError):
     """The nonlinear step could not be solved even with the smallest allowed step."""
+
+
+class DeadlineExceededError(RuntimeError):
+    """The forecast did not finish before its wall-clock deadline."""
 
 
 @dataclass
@@ -295,8 +300,12 @@ class ThermalSolver:
         }
         return sorted(set(outputs) | events), events
 
-    def run(self) -> Forecast:
-        """March from placement to the end of the forecast and summarise."""
+    def run(self, deadline: float | None = None) -> Forecast:
+        """March from placement to the end of the forecast and summarise.
+
+        ``deadline`` is a ``time.monotonic()`` value after which the run stops with
+        :class:`DeadlineExceededError` (a wall-clock cap for services).
+        """
         res = self.scenario.settings
         targets, restarts = self._targets()
         state, previous = self._initial_state(), None
@@ -308,6 +317,11 @@ class ThermalSolver:
         generated = stored = lost = 0.0
         for target in targets:
             while state.time_h < target - 1e-9:
+                if deadline is not None and time.monotonic() > deadline:
+                    raise DeadlineExceededError(
+                        f"stopped at {state.time_h:.1f} h of {self.scenario.duration_h:g} h: "
+                        "the wall-clock cap was reached"
+                    )
                 cap = min(desired, res.max_step_h, 2.0 * last_step if previous else math.inf)
                 remaining = target - state.time_h
                 step = remaining / math.ceil(remaining / cap - 1e-9)
@@ -444,6 +458,7 @@ def _output_times(duration_h: float, interval_h: float) -> NDArray[np.float64]:
     return times
 
 
-def forecast(scenario: Scenario) -> Forecast:
-    """Forecast a scenario (convenience wrapper around :class:`ThermalSolver`)."""
-    return ThermalSolver(scenario).run()
+def forecast(scenario: Scenario, deadline: float | None = None) -> Forecast:
+    """Forecast a scenario (convenience wrapper around :class:`ThermalSolver`); ``deadline`` as
+    for :meth:`ThermalSolver.run`."""
+    return ThermalSolver(scenario).run(deadline)

@@ -1,0 +1,1 @@
+"""Benchmarks (run with `python -m bench`); not part of the test suite."""

@@ -1,0 +1,275 @@
+"""Benchmarks of the forecast solver against reference solvers, run in the same process.
+
+    .venv/bin/python -m bench            # all cases, then refresh the README table
+    .venv/bin/python -m bench 1d 3d      # some cases
+
+Each case prints wall time, peak memory, the accuracy against a converged run and the ratio
+against its reference. Timings are of this machine (2 cores); compare ratios, not seconds.
+"""
+
+import argparse
+import math
+import resource
+import statistics
+import sys
+import time
+import tracemalloc
+from collections.abc import Callable
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from model.ambient import Ambient
+from model.hydration import HydrationParameters
+from model.properties import MixMasses
+from model.scenario import Concrete, Element, Face, Ground, Resolution, Scenario
+from model.solver import forecast
+from tests.reference import mol
+
+HYD = HydrationParameters(460000.0, 13.0, 0.9, 0.75, 41000.0)
+CONCRETE = Concrete(380.0, HYD, MixMasses(380.0, 1860.0, 160.0), density_kg_m3=2400.0,
+                    specific_heat_j_kgk=1000.0, conductivity_w_mk=2.5)
+TOP_FILM_W_M2K, TOP_R = 12.0, 0.5
+README = Path(__file__).resolve().parents[1] / "README.md"
+START, END = "<!-- bench:start -->", "<!-- bench:end -->"
+
+
+def timed(function: Callable[[], Any], repeat: int = 3) -> tuple[Any, float, float]:
+    """Best wall time of ``repeat`` runs [s], the result, and the peak traced memory [MB]."""
+    best, result = math.inf, None
+    for _ in range(repeat):
+        start = time.perf_counter()
+        result = function()
+        best = min(best, time.perf_counter() - start)
+    tracemalloc.start()
+    function()
+    peak = tracemalloc.get_traced_memory()[1] / 1e6
+    tracemalloc.stop()
+    return result, best, peak
+
+
+def mat_1d(resolution: Resolution | None = None) -> Scenario:
+    """2.5 m mat, insulated top, adiabatic bottom, constant air, 240 h."""
+    return Scenario(
+        element=Element("slab", 2.5), concrete=CONCRETE, ambient=Ambient(air_c=15.0),
+        faces={"top": Face(film_coefficient_w_m2k=TOP_FILM_W_M2K, insulation_r_m2k_w=TOP_R),
+               "bottom": Face(adiabatic=True)},
+        placement_c=20.0, duration_h=240.0, resolution=resolution,
+    )
+
+
+def case_1d() -> dict[str, Any]:
+    """1D against the method-of-lines reference tuned to 0.1 C of the converged answer."""
+    converged = forecast(mat_1d(Resolution().refined(4.0))).summary
+    ours, t_ours, mem = timed(lambda: forecast(mat_1d()).summary)
+    u_top = 1.0 / (TOP_R + 1.0 / TOP_FILM_W_M2K)
+
+    def reference(cells: int, rtol: float) -> dict[str, float]:
+        result = mol.hydrating_slab(2.5, cells, 20.0, 15.0, u_top, None, 380.0, HYD.total_heat_j_kg,
+                                    HYD.tau_h, HYD.beta, HYD.alpha_u, HYD.activation_energy_j_mol,
+                                    2400.0, 1000.0, 2.5, 240.0, np.arange(0.0, 240.001, 1.0),
+                                    rtol=rtol, atol=1e-6)
+        return mol.summary(result, 0.05, bottom_exposed=False)
+
+    def error(s_peak: float, s_diff: float) -> float:
+        return max(abs(s_peak - converged.peak_temperature_c),
+                   abs(s_diff - converged.max_differential_c))
+
+    tuned = None
+    for cells in (25, 40, 60, 90, 130):  # the cheapest setting within 0.1 C of converged
+        for rtol in (1e-3, 1e-4, 1e-5):
+            s = reference(cells, rtol)
+            if error(s["peak_c"], s["max_differential_c"]) <= 0.1:
+                tuned = (cells, rtol)
+                break
+        if tuned:
+            break
+    assert tuned is not None, "no reference setting reached 0.1 C"
+    ref, t_ref, _ = timed(lambda: reference(*tuned))
+    return {
+        "case": "1D 2.5 m mat, 240 h",
+        "reference": f"solve_ivp BDF method of lines, {tuned[0]} cells, rtol {tuned[1]:g}",
+        "time_s": t_ours, "reference_s": t_ref, "memory_mb": mem,
+        "error_c": error(ours.peak_temperature_c, ours.max_differential_c),
+        "reference_error_c": error(ref["peak_c"], ref["max_differential_c"]),
+        "target": "at least as fast as the reference",
+        "met": t_ours <= t_ref,
+    }
+
+
+def footing_2d(resolution: Resolution | None = None) -> Scenario:
+    """4 m x 3 m footing section on a 3 m ground layer, 336 h."""
+    return Scenario(
+        element=Element("section", 3.0, width_m=4.0), concrete=CONCRETE,
+        ambient=Ambient(daily_min_c=8.0, daily_max_c=22.0, wind_m_s=3.0),
+        faces={"top": Face(insulation_r_m2k_w=0.5), "left": Face(formwork_r_m2k_w=0.15),
+               "right": Face(formwork_r_m2k_w=0.15)},
+        ground=Ground(depth_m=3.0, deep_temperature_c=12.0), placement_c=18.0,
+        duration_h=336.0, resolution=resolution,
+    )
+
+
+def block_3d(resolution: Resolution | None = None) -> Scenario:
+    """12 m x 8 m x 3 m block (quarter symmetry), insulated top, 336 h."""
+    return Scenario(
+        element=Element("block", 3.0, width_m=8.0, length_m=12.0), concrete=CONCRETE,
+        ambient=Ambient(air_c=15.0),
+        faces={"top": Face(insulation_r_m2k_w=0.5), "bottom": Face(adiabatic=True),
+               **{n: Face(formwork_r_m2k_w=0.3) for n in ("left", "right", "front", "back")}},
+        placement_c=20.0, duration_h=336.0, resolution=resolution,
+    )
+
+
+def case_multi(name: str, build: Callable[..., Scenario], refine: float, target_s: float,
+               repeat: int) -> dict[str, Any]:
+    converged = forecast(build(Resolution().refined(refine) if name.startswith("2D")
+                               else Resolution(surface_cell_m=0.01, growth=1.2, max_cell_m=0.125)
+                               )).summary
+    result, seconds, mem = timed(lambda: forecast(build()), repeat)
+    s = result.summary
+    err = max(abs(s.peak_temperature_c - converged.peak_temperature_c),
+              abs(s.max_differential_c - converged.max_differential_c))
+    return {"case": name, "reference": "target only (no second solver run here)",
+            "time_s": seconds, "reference_s": None, "memory_mb": mem, "error_c": err,
+            "reference_error_c": None, "target": f"under {target_s:g} s",
+            "met": seconds < target_s, "cells": result.cells, "steps": result.steps}
+
+
+def case_scaling() -> list[tuple[str, int, int, float]]:
+    """Time against cells x steps for 1D, 2D and 3D at four sizes each."""
+    rows = []
+    for label, build in (("1D", mat_1d), ("2D", footing_2d), ("3D", block_3d)):
+        for factor in (0.5, 0.7, 1.0, 1.4):
+            res = Resolution(surface_cell_m=0.02 / factor, growth=1.0 + 0.3 / factor,
+                             max_cell_m=0.25 / factor)
+            scenario = build(res)
+            if label != "3D":
+                scenario = Scenario(**{**scenario.__dict__, "duration_h": 120.0})
+            else:
+                scenario = Scenario(**{**scenario.__dict__, "duration_h": 48.0})
+            start = time.perf_counter()
+            result = forecast(scenario)
+            rows.append((label, result.cells, result.steps, time.perf_counter() - start))
+    return rows
+
+
+def case_http(seconds: float = 30.0, clients: int = 4) -> dict[str, Any]:
+    """The 1D example through gunicorn on 127.0.0.1 with concurrent clients."""
+    import json
+    import os
+    import socket
+    import subprocess
+    import threading
+    import urllib.request
+
+    with socket.socket() as s:
+        s.bind(("127.0.0.1", 0))
+        port = s.getsockname()[1]
+    root = Path(__file__).resolve().parents[1]
+    env = {**os.environ, "PORT": str(port), "POURHEAT_WORKERS": "2"}
+    server = subprocess.Popen(
+        [sys.executable, "-m", "gunicorn", "-c", "deploy/gunicorn.conf.py", "--access-logfile",
+         "/dev/null", "service.app:create_app()"], cwd=root, env=env,
+        stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, start_new_session=True)
+    url = f"http://127.0.0.1:{port}"
+    body = json.dumps({
+        "element": {"shape": "slab", "thickness_m": 2.0},
+        "mix": {"cement_kg_m3": 380, "water_kg_m3": 160,
+                "hydration": {"total_heat_j_kg": 460000, "tau_h": 13.0, "beta": 0.9,
+                              "alpha_u": 0.75, "activation_energy_j_mol": 41000},
+                "density_kg_m3": 2400, "specific_heat_j_kgk": 1000, "conductivity_w_mk": 2.5},
+        "placement": {"temperature_c": 20.0}, "ambient": {"air_temperature_c": 20.0},
+        "faces": {"top": {"insulation_r_m2k_w": 0.5}, "bottom": {"adiabatic": True}},
+        "duration_h": 168}).encode()
+    try:
+        for _ in range(100):
+            try:
+                urllib.request.urlopen(f"{url}/healthz", timeout=1)
+                break
+            except OSError:
+                time.sleep(0.1)
+        latencies: list[float] = []
+        errors = [0]
+        stop = time.monotonic() + seconds
+
+        def client() -> None:
+            while time.monotonic() < stop:
+                req = urllib.request.Request(f"{url}/v1/forecasts", data=body,
+                                             headers={"Content-Type": "application/json"})
+                start = time.perf_counter()
+                try:
+                    with urllib.request.urlopen(req, timeout=30) as response:
+                        response.read()
+                except OSError:
+                    errors[0] += 1
+                latencies.append(time.perf_counter() - start)
+
+        threads = [threading.Thread(target=client) for _ in range(clients)]
+        for t in threads:
+            t.start()
+        for t in threads:
+            t.join()
+    finally:
+        os.killpg(server.pid, 15)
+        server.wait(timeout=30)
+    p95 = float(np.percentile(latencies, 95))
+    return {"case": f"HTTP 1D example, {clients} clients, {seconds:g} s",
+            "p50_ms": 1000 * statistics.median(latencies), "p95_ms": 1000 * p95,
+            "throughput_per_s": len(latencies) / seconds, "errors": errors[0],
+            "target": "p95 under 150 ms", "met": p95 < 0.150 and errors[0] == 0}
+
+
+def markdown(rows: list[dict[str, Any]], scaling: list[tuple[str, int, int, float]] | None,
+             http: dict[str, Any] | None) -> str:
+    lines = ["| case | time [s] | reference | ref. time [s] | ratio | error vs converged [C] "
+             "| peak memory [MB] | target | met |", "|" + " --- |" * 9]
+    for r in rows:
+        ratio = f"{r['reference_s'] / r['time_s']:.2f}x faster" if r["reference_s"] else "-"
+        ref_s = f"{r['reference_s']:.3f}" if r["reference_s"] else "-"
+        lines.append(f"| {r['case']} | {r['time_s']:.3f} | {r['reference']} | {ref_s} | {ratio} "
+                     f"| {r['error_c']:.3f} | {r['memory_mb']:.0f} | {r['target']} | "
+                     f"{'yes' if r['met'] else 'no'} |")
+    if http:
+        lines += ["", f"HTTP: {http['case']}: p50 {http['p50_ms']:.0f} ms, p95 "
+                  f"{http['p95_ms']:.0f} ms, {http['throughput_per_s']:.1f} requests/s, "
+                  f"{http['errors']} errors (target {http['target']}: "
+                  f"{'met' if http['met'] else 'not met'})."]
+    if scaling:
+        lines += ["", "| grid | cells | steps | time [s] | microseconds per cell-step |",
+                  "| --- | --- | --- | --- | --- |"]
+        lines += [f"| {g} | {c} | {s} | {t:.2f} | {1e6 * t / (c * s):.1f} |"
+                  for g, c, s, t in scaling]
+    return "\n".join(lines)
+
+
+def main(argv: list[str] | None = None) -> None:
+    parser = argparse.ArgumentParser(prog="python -m bench")
+    parser.add_argument("cases", nargs="*", default=["1d", "2d", "3d", "scaling", "http"])
+    parser.add_argument("--no-readme", action="store_true", help="do not refresh README.md")
+    args = parser.parse_args(argv)
+    rows: list[dict[str, Any]] = []
+    scaling = http = None
+    if "1d" in args.cases:
+        rows.append(case_1d())
+    if "2d" in args.cases:
+        rows.append(case_multi("2D 4 m x 3 m footing on ground, 336 h", footing_2d, 2.0, 2.0, 1))
+    if "3d" in args.cases:
+        rows.append(case_multi("3D 12 x 8 x 3 m block, quarter, 336 h", block_3d, 0.0, 10.0, 1))
+    if "scaling" in args.cases:
+        scaling = case_scaling()
+    if "http" in args.cases:
+        http = case_http()
+    table = markdown(rows, scaling, http)
+    print(table)
+    print(f"peak resident memory of this process: "
+          f"{resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024:.0f} MB")
+    if not args.no_readme and README.exists() and START in README.read_text():
+        text = README.read_text()
+        head, rest = text.split(START, 1)
+        _, tail = rest.split(END, 1)
+        README.write_text(f"{head}{START}\n{table}\n{END}{tail}")
+
+
+if __name__ == "__main__":
+    main()
