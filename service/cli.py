@@ -281,6 +281,9 @@ def _http(
     req = urllib.request.Request(url, data=data, method=method)
     if content_type:
         req.add_header("Content-Type", content_type)
+    token = os.environ.get("POURHEAT_TOKEN")
+    if token:  # the service's bearer token, when it requires one (never printed)
+        req.add_header("Authorization", f"Bearer {token.strip()}")
     try:
         with urllib.request.urlopen(req, timeout=HTTP_TIMEOUT_S) as response:
             status, raw = response.status, response.read()
@@ -434,7 +437,8 @@ def build_parser() -> argparse.ArgumentParser:
         "watch",
         help="post new readings of a stored pour and print its status (for cron)",
         description="Post a data-logger CSV (time,sensor,temperature_c) to a stored pour, then "
-        "print its calibrated status. Exit 3 when a limit is measured or forecast exceeded.",
+        "print its calibrated status. Exit 3 when a limit is measured or forecast exceeded. "
+        "When the service requires a token, put it in the environment as POURHEAT_TOKEN.",
         epilog=EPILOG,
     )
     wt.add_argument("--pour", required=True, help="pour id")

@@ -44,6 +44,14 @@ CAUTION = (
     "record; confirm by monitoring and follow local codes and licensed practice."
 )
 
+AUTH_NOTE = (
+    "Access: when the operator configures tokens (POURHEAT_TOKENS), requests that change stored "
+    "pours (POST /v1/pours, POST /v1/pours/{pour_id}/readings, DELETE /v1/pours/{pour_id}) need "
+    "`Authorization: Bearer <token>` (the `bearer` security scheme), and so do all other "
+    "requests when POURHEAT_AUTH_READS=true; /healthz, / and /openapi.json stay open. Without a "
+    "valid token the answer is 401 with a WWW-Authenticate challenge."
+)
+
 
 def _problems(*codes: int) -> dict[str, Any]:
     reasons = {
@@ -307,7 +315,10 @@ def build_spec() -> dict[str, Any]:
             "title": "pourheat",
             "version": "1",
             "description": "Temperature forecasts for curing mass concrete: peak temperature, "
-            "near-surface temperature and core-to-surface differential. " + CAUTION,
+            "near-surface temperature and core-to-surface differential. "
+            + CAUTION
+            + " "
+            + AUTH_NOTE,
         },
         "paths": {
             "/healthz": {
@@ -439,7 +450,10 @@ def build_spec() -> dict[str, Any]:
             },
             **_pour_paths(),
         },
-        "components": {"schemas": definitions["$defs"]},
+        "components": {
+            "schemas": definitions["$defs"],
+            "securitySchemes": {"bearer": {"type": "http", "scheme": "bearer"}},
+        },
     }
 
 

@@ -154,3 +154,31 @@ def test_pour_responses_match_the_contract(client):
     check("ReadingsOut", client.get(f"/v1/pours/{pour}/readings").get_json())
     check("PourForecastOut", client.get(f"/v1/pours/{pour}/forecast").get_json())
     check("PourStatusOut", client.get(f"/v1/pours/{pour}/status").get_json())
+
+
+def test_watch_sends_the_token_from_the_environment(monkeypatch):
+    """`pourheat watch` puts POURHEAT_TOKEN in the Authorization header (read via urllib)."""
+    import urllib.request
+
+    seen = {}
+
+    class Response:
+        status = 200
+
+        def __enter__(self):
+            return self
+
+        def __exit__(self, *exc):
+            return False
+
+        def read(self):
+            return b"{}"
+
+    def fake_urlopen(request, timeout):
+        seen["authorization"] = request.get_header("Authorization")
+        return Response()
+
+    monkeypatch.setenv("POURHEAT_TOKEN", "s3cret-token-for-tests")
+    monkeypatch.setattr(urllib.request, "urlopen", fake_urlopen)
+    assert cli._http("GET", "http://127.0.0.1:8000/healthz") == (200, {})
+    assert seen["authorization"] == "Bearer s3cret-token-for-tests"

@@ -1,0 +1,137 @@
+"""Request limits: body size, JSON nesting depth, readings per upload and the compute budget.
+
+Each limit is an app setting with a safe default, read from the environment at app creation
+(``create_app``) and checked here by :func:`init_app`:
+
+==========================  ===============================  ==================================
+setting (app config)        environment                      default, enforced by
+==========================  ===============================  ==================================
+``MAX_CONTENT_LENGTH``      ``POURHEAT_MAX_BODY_BYTES``      2 MiB; Flask/Werkzeug: 413
+``MAX_JSON_DEPTH``          ``POURHEAT_MAX_JSON_DEPTH``      32; :func:`json_depth` here: 422
+``MAX_READINGS_PER_UPLOAD`` ``POURHEAT_MAX_READINGS_PER_``   20000 rows; the pours blueprint:
+                            ``UPLOAD``                       413
+``MAX_CELL_STEPS``          ``POURHEAT_MAX_CELL_STEPS``      4e7 grid cells x time steps;
+                                                             service.forecasting: 422
+==========================  ===============================  ==================================
+
+The length of an hourly list (``ambient.air_temperature_c``, ``wind_m_s``, ``solar_w_m2``) is
+fixed at :data:`MAX_HOURLY_VALUES` by the pydantic schemas (service/schemas.py), which answer a
+longer list with a 422 naming the field; it is not a setting.
+
+The hook registered here also refuses, before any endpoint parses it, a JSON body that is not
+UTF-8 (400) or whose top level is not an object (400): every JSON endpoint takes an object.
+"""
+
+import re
+from typing import Any
+
+from flask import Flask, Response, request
+
+from service.errors import problem
+
+DEFAULT_MAX_BODY_BYTES = 2 * 1024 * 1024
+"""Largest accepted request body [bytes] (``POURHEAT_MAX_BODY_BYTES``)."""
+DEFAULT_MAX_JSON_DEPTH = 32
+"""Deepest accepted nesting of JSON arrays and objects (``POURHEAT_MAX_JSON_DEPTH``). A valid
+scenario, plan or comparison nests about 6 deep; Python's JSON parser raises RecursionError
+(a 500) at about a thousand."""
+DEFAULT_MAX_READINGS_PER_UPLOAD = 20000
+"""Most readings (JSON items or CSV rows) in one upload (``POURHEAT_MAX_READINGS_PER_UPLOAD``)."""
+MAX_HOURLY_VALUES = 20000
+"""Longest hourly list in a scenario; fixed in service/schemas.py, documented here."""
+
+_TOKEN = re.compile(rb'"[^"\\]*(?:\\.[^"\\]*)*"?|[\[\]{}]', re.DOTALL)
+"""A JSON string (to skip, escapes included; unterminated runs to the end) or a bracket."""
+_OPENERS = frozenset(b"[{")
+_QUOTE = ord('"')
+BODY_METHODS = frozenset({"POST", "PUT", "PATCH"})
+"""Methods whose JSON body an endpoint may parse."""
+_JSON_WHITESPACE = b" \t\r\n"
+
+
+def json_depth(data: bytes, limit: int) -> int:
+    """The deepest nesting of arrays and objects in the JSON text ``data``, counting ``[`` and
+    ``{`` outside strings; stops at the first bracket deeper than ``limit`` (returning
+    ``limit + 1``). Linear in the size of the body and not recursive, so it is safe to run on
+    any body before ``json.loads``; malformed JSON is left to the parser."""
+    depth = deepest = 0
+    for match in _TOKEN.finditer(data):
+        first = match.group()[0]
+        if first in _OPENERS:
+            depth += 1
+            if depth > deepest:
+                deepest = depth
+                if deepest > limit:
+                    break
+        elif first != _QUOTE:
+            depth -= 1
+    return deepest
+
+
+def _positive_int(value: Any, name: str) -> int:
+    """A setting as a positive integer; a clear error at start-up otherwise."""
+    try:
+        number = int(value)
+    except (TypeError, ValueError):
+        raise ValueError(f"{name} must be a positive integer, got {value!r}") from None
+    if isinstance(value, float) and value != number or number < 1:
+        raise ValueError(f"{name} must be a positive integer, got {value!r}")
+    return number
+
+
+def _positive_number(value: Any, name: str) -> float:
+    """A setting as a positive finite number (``4e7`` is accepted)."""
+    try:
+        number = float(value)
+    except (TypeError, ValueError):
+        raise ValueError(f"{name} must be a positive number, got {value!r}") from None
+    if not 0 < number < float("inf"):
+        raise ValueError(f"{name} must be a positive number, got {value!r}")
+    return number
+
+
+def _check_json_body(max_depth: int) -> Response | None:
+    """Refuse a JSON body that is not UTF-8, not an object, or nested deeper than allowed."""
+    if request.method not in BODY_METHODS or not request.is_json:
+        return None
+    data = request.get_data(cache=True)  # raises 413 over MAX_CONTENT_LENGTH
+    if not data:
+        return None  # the endpoint says what it needed
+    try:
+        data.decode("utf-8")
+    except UnicodeDecodeError:
+        return problem(400, "Bad Request", "the JSON body must be UTF-8 (RFC 8259)")
+    if data.lstrip(_JSON_WHITESPACE).removeprefix(b"\xef\xbb\xbf")[:1] != b"{":
+        return problem(400, "Bad Request", "the body must be a JSON object")
+    if json_depth(data, max_depth) > max_depth:
+        return problem(
+            422,
+            "JSON Too Deep",
+            f"the JSON body nests arrays and objects more than {max_depth} levels deep "
+            "(POURHEAT_MAX_JSON_DEPTH)",
+            [{"field": "(body)", "message": f"nested more than {max_depth} levels deep"}],
+        )
+    return None
+
+
+def init_app(app: Flask) -> None:
+    """Check the limit settings (ValueError at start-up if one is malformed) and register the
+    JSON body check as a before_request hook."""
+    config = app.config
+    config["MAX_CONTENT_LENGTH"] = _positive_int(
+        config["MAX_CONTENT_LENGTH"], "MAX_CONTENT_LENGTH (POURHEAT_MAX_BODY_BYTES)"
+    )
+    config["MAX_JSON_DEPTH"] = _positive_int(
+        config["MAX_JSON_DEPTH"], "MAX_JSON_DEPTH (POURHEAT_MAX_JSON_DEPTH)"
+    )
+    config["MAX_READINGS_PER_UPLOAD"] = _positive_int(
+        config["MAX_READINGS_PER_UPLOAD"],
+        "MAX_READINGS_PER_UPLOAD (POURHEAT_MAX_READINGS_PER_UPLOAD)",
+    )
+    config["MAX_CELL_STEPS"] = _positive_number(
+        config["MAX_CELL_STEPS"], "MAX_CELL_STEPS (POURHEAT_MAX_CELL_STEPS)"
+    )
+
+    @app.before_request
+    def _json_limits() -> Response | None:
+        return _check_json_body(int(app.config["MAX_JSON_DEPTH"]))
