@@ -22,7 +22,7 @@ serve: $(VENV)/.installed
 	PORT=$(PORT) $(BIN)/gunicorn --config deploy/gunicorn.conf.py "service.app:create_app()"
 
 test: $(VENV)/.installed-test
-	$(BIN)/ruff check model service tests
+	$(BIN)/ruff check model service tests bench scripts
 	$(BIN)/python -m pytest
 
 clean:

@@ -31,8 +31,10 @@ HYDRATION_STEPS = 250
 
 
 def estimated_steps(scenario: Scenario) -> int:
-    """Rough number of time steps a forecast will take (for the compute budget)."""
-    return math.ceil(scenario.duration_h / scenario.settings.max_step_h) + HYDRATION_STEPS
+    """Rough number of time steps a forecast will take (for the compute budget); steps land on
+    every reporting time, so a reporting interval shorter than the largest step sets them."""
+    step_h = min(scenario.settings.max_step_h, scenario.output_interval_h)
+    return math.ceil(scenario.duration_h / step_h) + HYDRATION_STEPS
 
 
 def check_budget(

@@ -56,7 +56,9 @@ AUTH_NOTE = (
 def _problems(*codes: int) -> dict[str, Any]:
     reasons = {
         400: "Malformed JSON or not a JSON object",
+        406: "None of the offered media types is acceptable",
         413: "Request body too large",
+        415: "Unsupported request media type",
         422: "Invalid input: each field named in `errors`",
     }
     return {str(c): {"description": reasons[c], "content": PROBLEM} for c in codes}
@@ -131,7 +133,10 @@ def _pour_paths() -> dict[str, Any]:
                         "example": False,
                     }
                 ],
-                "responses": {"200": {"description": "Pours", "content": _json("PourListOut")}},
+                "responses": {
+                    "200": {"description": "Pours", "content": _json("PourListOut")},
+                    **_problems(422),
+                },
             },
         },
         "/v1/pours/{pour_id}": {
@@ -173,7 +178,7 @@ def _pour_paths() -> dict[str, Any]:
                     },
                     "404": {"description": "No such pour", "content": PROBLEM},
                     "409": {"description": "Archived pour", "content": PROBLEM},
-                    **_problems(400, 413, 422),
+                    **_problems(400, 413, 415, 422),
                 },
             },
             "get": {
@@ -192,8 +197,17 @@ def _pour_paths() -> dict[str, Any]:
                         ("from", "From this time (ISO 8601 with offset)", "2026-11-02T12:00:00Z"),
                         ("to", "Up to this time (ISO 8601 with offset)", "2026-11-04T12:00:00Z"),
                         ("sensor", "Only this sensor", "S1"),
-                        ("format", "csv for CSV", "csv"),
                     )
+                ]
+                + [
+                    {
+                        "name": "format",
+                        "in": "query",
+                        "required": False,
+                        "description": "json (default) or csv",
+                        "schema": {"type": "string", "enum": ["json", "csv"]},
+                        "example": "csv",
+                    }
                 ],
                 "responses": {
                     "200": {
@@ -201,6 +215,7 @@ def _pour_paths() -> dict[str, Any]:
                         "content": {**_json("ReadingsOut"), "text/csv": csv_readings},
                     },
                     "404": {"description": "No such pour", "content": PROBLEM},
+                    **_problems(406, 422),
                 },
             },
         },
@@ -238,6 +253,9 @@ def _pour_paths() -> dict[str, Any]:
                             **_json("PourForecastOut"),
                             "text/csv": {"schema": {"type": "string"}},
                             "image/svg+xml": {"schema": {"type": "string"}},
+                            "image/png": {
+                                "schema": {"type": "string", "contentMediaType": "image/png"}
+                            },
                         },
                     },
                     "404": {"description": "No such pour", "content": PROBLEM},
@@ -370,7 +388,7 @@ def build_spec() -> dict[str, Any]:
                     },
                     "responses": {
                         "200": {"description": "The forecast", "content": forecast_content},
-                        **_problems(400, 413, 422),
+                        **_problems(400, 406, 413, 422),
                     },
                 },
                 "get": {
@@ -378,16 +396,26 @@ def build_spec() -> dict[str, Any]:
                     "description": "Returns the series as CSV, or with `value` one summary "
                     "number as text/plain. " + CAUTION,
                     "operationId": "queryForecast",
-                    "parameters": [*_query_parameters(), value_parameter, UNITS_PARAMETER],
+                    "parameters": [
+                        *_query_parameters(),
+                        value_parameter,
+                        UNITS_PARAMETER,
+                        {
+                            **format_parameter,
+                            "description": "Response format (default csv), "
+                            "instead of the Accept header; ignored with `value`",
+                        },
+                    ],
                     "responses": {
                         "200": {
-                            "description": "CSV series or one value",
+                            "description": "CSV series (or JSON or a chart by `format`), or "
+                            "one value",
                             "content": {
-                                "text/csv": forecast_content["text/csv"],
+                                **forecast_content,
                                 "text/plain": {"schema": {"type": "string"}, "example": "66.79"},
                             },
                         },
-                        **_problems(422),
+                        **_problems(406, 422),
                     },
                 },
             },

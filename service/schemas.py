@@ -355,7 +355,7 @@ class ScenarioIn(Strict):
     sensors: list[SensorIn] = F("Points to report", max_length=200, default_factory=list)
     duration_h: float = F("Forecast length [h]", 168.0, gt=0, le=2000, default=168.0)
     output_interval_h: float = F(
-        "Spacing of the reported series [h]", 1.0, gt=0, le=48, default=1.0
+        "Spacing of the reported series [h]", 1.0, ge=0.01, le=48, default=1.0
     )
     near_surface_depth_m: float = F(
         "Depth of the near-surface layer inside exposed faces [m]", 0.05, gt=0, le=0.5, default=0.05

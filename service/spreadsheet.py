@@ -43,7 +43,9 @@ class SpreadsheetQueryIn(Strict):
         "Deep ground temperature [C]; default: air_mean_c", 12.0, ge=-60, le=120, default=None
     )
     duration_h: float = F("Forecast length [h]", 168.0, gt=0, le=2000, default=168.0)
-    output_interval_h: float = F("Spacing of the reported rows [h]", 1.0, gt=0, le=48, default=1.0)
+    output_interval_h: float = F(
+        "Spacing of the reported rows [h]", 1.0, ge=0.01, le=48, default=1.0
+    )
     max_temperature_c: float = F("Maximum temperature limit [C]", 70.0, gt=0, le=120, default=70.0)
     max_differential_c: float = F("Differential limit [C]", 19.0, gt=0, le=100, default=19.0)
 
