@@ -110,11 +110,16 @@ def with_measured_air(
 
 
 def predicted_c(
-    scenario: Scenario, hours: NDArray[np.float64], sensors: NDArray[np.str_]
+    scenario: Scenario,
+    hours: NDArray[np.float64],
+    sensors: NDArray[np.str_],
+    deadline: float | None = None,
 ) -> NDArray[np.float64]:
     """Forecast temperatures at the reading times and sensors [C]."""
     horizon = float(np.ceil(hours.max() + 1e-9))
-    result = forecast(replace(scenario, duration_h=max(horizon, 1.0), output_interval_h=1.0))
+    result = forecast(
+        replace(scenario, duration_h=max(horizon, 1.0), output_interval_h=1.0), deadline
+    )
     out = np.empty(hours.size)
     for sensor in np.unique(sensors):
         mask = sensors == sensor
@@ -128,8 +133,10 @@ def calibrate(
     sensors: NDArray[np.str_],
     temperature_c: NDArray[np.float64],
     fit_placement: bool = False,
+    deadline: float | None = None,
 ) -> Calibration:
-    """Fit the uncertain inputs to readings (air readings, sensor "air", drive the weather).
+    """Fit the uncertain inputs to readings (air readings, sensor "air", drive the weather);
+    ``deadline`` as for :func:`model.solver.forecast`.
 
     Raises
     ------
@@ -151,7 +158,7 @@ def calibrate(
 
     def residuals(x: NDArray[np.float64]) -> NDArray[np.float64]:
         values = {p.name: v for p, v in zip(fitted, x, strict=True)}
-        return predicted_c(with_parameters(base, values), hours, sensors) - measured
+        return predicted_c(with_parameters(base, values), hours, sensors, deadline) - measured
 
     solution = least_squares(
         residuals,

@@ -16,6 +16,7 @@ from service import auth, errors, limits, store
 from service.blueprints import forecasts, health, meta, monitoring, plans, pours
 from service.forecasting import DEFAULT_MAX_CELL_STEPS
 from service.limits import (
+    DEFAULT_FORECAST_TIMEOUT_S,
     DEFAULT_MAX_BODY_BYTES,
     DEFAULT_MAX_JSON_DEPTH,
     DEFAULT_MAX_READINGS_PER_UPLOAD,
@@ -35,6 +36,7 @@ def _settings_from_environment() -> dict[str, Any]:
         "MAX_CONTENT_LENGTH": env.get("POURHEAT_MAX_BODY_BYTES", DEFAULT_MAX_BODY_BYTES),
         "MAX_JSON_DEPTH": DEFAULT_MAX_JSON_DEPTH,
         "MAX_CELL_STEPS": DEFAULT_MAX_CELL_STEPS,
+        "FORECAST_TIMEOUT_S": DEFAULT_FORECAST_TIMEOUT_S,
         "DATABASE": env.get("POURHEAT_DB", "pourheat.sqlite3"),
         "MAX_READINGS_PER_UPLOAD": DEFAULT_MAX_READINGS_PER_UPLOAD,
         "AUTH_TOKENS": env.get("POURHEAT_TOKENS", ""),

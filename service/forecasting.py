@@ -5,6 +5,7 @@ Shared by the HTTP blueprints and the command line so both answer the same way.
 
 import math
 from dataclasses import asdict
+from functools import partial
 from typing import Any
 
 import numpy as np
@@ -76,23 +77,28 @@ def validated_scenario(
     return scenario_in, scenario, origin
 
 
-def solve(scenario: Scenario):
-    """Run one forecast; a solver failure becomes a 422 naming the scenario."""
+def solve(scenario: Scenario, deadline: float | None = None):
+    """Run one forecast; a solver failure becomes a 422 naming the scenario. Past ``deadline``
+    (a ``time.monotonic()`` value) the solver raises DeadlineExceededError (a 503)."""
     try:
-        return ThermalSolver(scenario).run()
+        return ThermalSolver(scenario).run(deadline)
     except ConvergenceError as error:
         raise InvalidScenarioError(
             [{"field": "(scenario)", "message": f"{error}; try a smaller resolution.max_step_h"}]
         ) from error
 
 
-def _summary_of(scenario: Scenario) -> Summary:
-    return forecast(scenario).summary
+def _summary_of(scenario: Scenario, deadline: float | None) -> Summary:
+    return forecast(scenario, deadline).summary
 
 
-def uncertainty_band(scenario: Scenario, spreads: Spreads, samples: int, seed: int) -> dict:
+def uncertainty_band(
+    scenario: Scenario, spreads: Spreads, samples: int, seed: int, deadline: float | None = None
+) -> dict:
     """P10/P50/P90 of peak and maximum differential over a Latin hypercube of forecasts."""
-    summaries = map_in_processes(_summary_of, sample_scenarios(scenario, spreads, samples, seed))
+    summaries = map_in_processes(
+        partial(_summary_of, deadline=deadline), sample_scenarios(scenario, spreads, samples, seed)
+    )
     peaks = np.array([s.peak_temperature_c for s in summaries])
     diffs = np.array([s.max_differential_c for s in summaries])
     return {
@@ -106,7 +112,7 @@ def uncertainty_band(scenario: Scenario, spreads: Spreads, samples: int, seed: i
 
 
 def run_forecast(
-    payload: Any, max_cell_steps: float = DEFAULT_MAX_CELL_STEPS
+    payload: Any, max_cell_steps: float = DEFAULT_MAX_CELL_STEPS, deadline: float | None = None
 ) -> tuple[ScenarioIn, dict[str, Any]]:
     """Validate a scenario payload and forecast it; returns the request and the response body.
 
@@ -124,12 +130,12 @@ def run_forecast(
     check_budget(scenario, max_cell_steps)
     if band is not None:
         check_budget(scenario, max_cell_steps, band.samples, "uncertainty.samples")
-    body = forecast_json(scenario_in, scenario, solve(scenario), origin)
+    body = forecast_json(scenario_in, scenario, solve(scenario, deadline), origin)
     if band is not None:
         spreads = Spreads(
             band.placement_sd_c, band.air_sd_c, band.total_heat_rel_sd, band.tau_rel_sd
         )
         body["summary"]["uncertainty"] = uncertainty_band(
-            scenario, spreads, band.samples, band.seed
+            scenario, spreads, band.samples, band.seed, deadline
         )
     return scenario_in, body

@@ -23,11 +23,19 @@ UTF-8 (400) or whose top level is not an object (400): every JSON endpoint takes
 """
 
 import re
+import time
 from typing import Any
 
-from flask import Flask, Response, request
+from flask import Flask, Response, current_app, request
 
+from model.solver import DeadlineExceededError
 from service.errors import problem
+
+DEFAULT_FORECAST_TIMEOUT_S = 40.0
+"""Wall-clock cap of the computation of one request [s] (POURHEAT_FORECAST_TIMEOUT_S); past it
+the request gets 503 with Retry-After. Keep it below gunicorn's worker timeout (60 s)."""
+RETRY_AFTER_S = 60
+"""Retry-After sent with a 503 for a request that hit the wall-clock cap [s]."""
 
 DEFAULT_MAX_BODY_BYTES = 2 * 1024 * 1024
 """Largest accepted request body [bytes] (``POURHEAT_MAX_BODY_BYTES``)."""
@@ -131,7 +139,25 @@ def init_app(app: Flask) -> None:
     config["MAX_CELL_STEPS"] = _positive_number(
         config["MAX_CELL_STEPS"], "MAX_CELL_STEPS (POURHEAT_MAX_CELL_STEPS)"
     )
+    config["FORECAST_TIMEOUT_S"] = _positive_number(
+        config["FORECAST_TIMEOUT_S"], "FORECAST_TIMEOUT_S (POURHEAT_FORECAST_TIMEOUT_S)"
+    )
+
+    @app.errorhandler(DeadlineExceededError)
+    def _deadline(error: DeadlineExceededError) -> Response:
+        response = problem(
+            503,
+            "Computation took too long",
+            f"{error}; coarsen the scenario's resolution or shorten duration_h, or try again later",
+        )
+        response.headers["Retry-After"] = str(RETRY_AFTER_S)
+        return response
 
     @app.before_request
     def _json_limits() -> Response | None:
         return _check_json_body(int(app.config["MAX_JSON_DEPTH"]))
+
+
+def request_deadline() -> float:
+    """The ``time.monotonic()`` value by which this request's computation must finish."""
+    return time.monotonic() + float(current_app.config["FORECAST_TIMEOUT_S"])

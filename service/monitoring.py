@@ -2,12 +2,14 @@
 
 from dataclasses import replace
 from datetime import datetime
+from functools import partial
 from typing import Any
 
 import numpy as np
 
 from model.calibration import AIR_SENSOR, calibrate
 from model.planning import Limits, solve_control
+from model.solver import forecast
 from service.convert import forecast_json
 from service.errors import InvalidScenarioError
 from service.forecasting import check_budget, solve, validated_scenario
@@ -32,8 +34,10 @@ def pour_forecast(
     readings: list[dict[str, Any]],
     max_cell_steps: float,
     fit_placement: bool = False,
+    deadline: float | None = None,
 ) -> dict[str, Any]:
-    """The forecast body of a stored pour, calibrated to its readings (planned if none)."""
+    """The forecast body of a stored pour, calibrated to its readings (planned if none);
+    ``deadline`` is a ``time.monotonic()`` wall-clock cap."""
     scenario_in, scenario, origin = validated_scenario(pour["scenario"])
     hours, sensors, temps = _arrays(readings)
     now_h = float(hours.max()) if hours.size else 0.0
@@ -49,7 +53,7 @@ def pour_forecast(
         }
     else:
         try:
-            fit = calibrate(scenario, hours, sensors, temps, fit_placement)
+            fit = calibrate(scenario, hours, sensors, temps, fit_placement, deadline)
         except ValueError as error:
             raise InvalidScenarioError([{"field": "readings", "message": str(error)}]) from error
         scenario = fit.scenario
@@ -62,7 +66,7 @@ def pour_forecast(
             "readings_used": fit.readings_used,
             "air_readings_used": int(np.count_nonzero(sensors == AIR_SENSOR)),
         }
-    result = solve(scenario)
+    result = solve(scenario, deadline)
     body = forecast_json(scenario_in, scenario, result, origin)
     limits = scenario_in.limits
     body["calibration"] = calibration
@@ -70,11 +74,11 @@ def pour_forecast(
     body["differential_limit_exceeded_h"] = result.first_time_above_h(
         "differential_c", limits.max_differential_c
     )
-    body["earliest_insulation_removal_h"] = _earliest_removal(scenario, limits)
+    body["earliest_insulation_removal_h"] = _earliest_removal(scenario, limits, deadline)
     return body
 
 
-def _earliest_removal(scenario: Any, limits: Any) -> float | None:
+def _earliest_removal(scenario: Any, limits: Any, deadline: float | None) -> float | None:
     if scenario.face("top").insulation_r_m2k_w <= 0:
         return None
     try:
@@ -82,6 +86,7 @@ def _earliest_removal(scenario: Any, limits: Any) -> float | None:
             scenario,
             "earliest_insulation_removal_h",
             Limits(limits.max_temperature_c, limits.max_differential_c),
+            partial(forecast, deadline=deadline),
         )
     except ValueError:
         return None

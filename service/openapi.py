@@ -60,6 +60,7 @@ def _problems(*codes: int) -> dict[str, Any]:
         413: "Request body too large",
         415: "Unsupported request media type",
         422: "Invalid input: each field named in `errors`",
+        503: "The computation hit the wall-clock cap; Retry-After says when to try again",
     }
     return {str(c): {"description": reasons[c], "content": PROBLEM} for c in codes}
 
@@ -259,7 +260,7 @@ def _pour_paths() -> dict[str, Any]:
                         },
                     },
                     "404": {"description": "No such pour", "content": PROBLEM},
-                    **_problems(422),
+                    **_problems(422, 503),
                 },
             },
         },
@@ -271,7 +272,7 @@ def _pour_paths() -> dict[str, Any]:
                 "responses": {
                     "200": {"description": "Status", "content": _json("PourStatusOut")},
                     "404": {"description": "No such pour", "content": PROBLEM},
-                    **_problems(422),
+                    **_problems(422, 503),
                 },
             },
         },
@@ -388,7 +389,7 @@ def build_spec() -> dict[str, Any]:
                     },
                     "responses": {
                         "200": {"description": "The forecast", "content": forecast_content},
-                        **_problems(400, 406, 413, 422),
+                        **_problems(400, 406, 413, 422, 503),
                     },
                 },
                 "get": {
@@ -415,7 +416,7 @@ def build_spec() -> dict[str, Any]:
                                 "text/plain": {"schema": {"type": "string"}, "example": "66.79"},
                             },
                         },
-                        **_problems(406, 422),
+                        **_problems(406, 422, 503),
                     },
                 },
             },
@@ -441,7 +442,7 @@ def build_spec() -> dict[str, Any]:
                                 }
                             },
                         },
-                        **_problems(400, 413, 422),
+                        **_problems(400, 413, 422, 503),
                     },
                 }
             },
@@ -472,7 +473,7 @@ def build_spec() -> dict[str, Any]:
                                 "text/csv": {"schema": {"type": "string"}},
                             },
                         },
-                        **_problems(400, 413, 422),
+                        **_problems(400, 413, 422, 503),
                     },
                 }
             },

@@ -17,6 +17,7 @@ from model.precooling import (
     water_temperature_for_target_c,
 )
 from model.scenario import Scenario
+from model.solver import forecast
 from service.convert import CAUTIONS
 from service.errors import InvalidScenarioError, validation_errors
 from service.forecasting import check_budget, run_forecast, validated_scenario
@@ -33,9 +34,11 @@ def _summary_json(summary: Any) -> dict[str, float]:
     return {k: round(v, 3) for k, v in asdict(summary).items()}
 
 
-def _solve_one(control: str, scenario: Scenario, limits: Limits) -> dict[str, Any]:
+def _solve_one(
+    control: str, scenario: Scenario, limits: Limits, deadline: float | None
+) -> dict[str, Any]:
     try:
-        result = solve_control(scenario, control, limits)
+        result = solve_control(scenario, control, limits, partial(forecast, deadline=deadline))
     except ValueError as error:
         return {"status": "not_applicable", "value": None, "note": str(error)}
     return {
@@ -76,7 +79,7 @@ def precooling_json(batch_in: BatchIn, target_c: float | None) -> dict[str, Any]
     return out
 
 
-def run_plan(payload: Any, max_cell_steps: float) -> dict[str, Any]:
+def run_plan(payload: Any, max_cell_steps: float, deadline: float | None = None) -> dict[str, Any]:
     """Solve each requested control; the body of POST /v1/plans."""
     plan = PlanIn.model_validate(payload)
     try:
@@ -91,7 +94,9 @@ def run_plan(payload: Any, max_cell_steps: float) -> dict[str, Any]:
     check_budget(scenario, max_cell_steps, PLAN_EVALUATIONS * len(controls), "solve_for")
     chosen = plan.limits or plan.scenario.limits
     limits = Limits(chosen.max_temperature_c, chosen.max_differential_c)
-    results = map_in_processes(partial(_solve_one, scenario=scenario, limits=limits), controls)
+    results = map_in_processes(
+        partial(_solve_one, scenario=scenario, limits=limits, deadline=deadline), controls
+    )
     body: dict[str, Any] = {
         "limits": {
             "max_temperature_c": limits.max_temperature_c,
@@ -116,8 +121,10 @@ def merged(base: Any, override: Any) -> Any:
     return copy.deepcopy(override)
 
 
-def _forecast_row(payload: dict[str, Any], max_cell_steps: float) -> dict[str, Any]:
-    _, body = run_forecast(payload, max_cell_steps)
+def _forecast_row(
+    payload: dict[str, Any], max_cell_steps: float, deadline: float | None
+) -> dict[str, Any]:
+    _, body = run_forecast(payload, max_cell_steps, deadline)
     summary = dict(body["summary"])
     limits = summary.pop("limits")
     return {**summary, **{f"{k}_met": v["met"] for k, v in limits.items()}}
@@ -136,7 +143,9 @@ COMPARISON_COLUMNS = (
 )
 
 
-def run_comparison(payload: Any, max_cell_steps: float) -> dict[str, Any]:
+def run_comparison(
+    payload: Any, max_cell_steps: float, deadline: float | None = None
+) -> dict[str, Any]:
     """One summary row per variant (the base first); the body of POST /v1/comparisons."""
     request = ComparisonIn.model_validate(payload)
     scenarios = {"base": request.base}
@@ -155,7 +164,8 @@ def run_comparison(payload: Any, max_cell_steps: float) -> dict[str, Any]:
     if errors:
         raise InvalidScenarioError(errors)
     rows = map_in_processes(
-        partial(_forecast_row, max_cell_steps=max_cell_steps), list(scenarios.values())
+        partial(_forecast_row, max_cell_steps=max_cell_steps, deadline=deadline),
+        list(scenarios.values()),
     )
     return {
         "rows": [{"variant": name, **row} for name, row in zip(scenarios, rows, strict=True)],

@@ -133,3 +133,18 @@ def test_compute_budget_refuses_with_advice(app, contract_scenario):
     error = response.get_json()["errors"][0]
     assert error["field"] == "resolution"
     assert "coarsen" in error["message"] and "max_cell_m" in error["message"]
+
+
+def test_wall_clock_cap_gives_503_with_retry_after(app, contract_scenario):
+    """A computation past FORECAST_TIMEOUT_S is stopped and refused, never left hanging."""
+    app.config["FORECAST_TIMEOUT_S"] = 1e-9
+    client = app.test_client()
+    for response in (
+        client.post(URL, json=contract_scenario),
+        client.post(
+            "/v1/plans", json={"scenario": contract_scenario, "solve_for": ["max_thickness_m"]}
+        ),
+    ):
+        assert response.status_code == 503
+        assert response.mimetype == "application/problem+json"
+        assert int(response.headers["Retry-After"]) > 0

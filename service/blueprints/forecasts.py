@@ -13,6 +13,7 @@ from werkzeug.exceptions import BadRequest, NotAcceptable
 from service.convert import CAUTIONS, forecast_csv
 from service.errors import InvalidScenarioError
 from service.forecasting import run_forecast
+from service.limits import request_deadline
 from service.spreadsheet import SpreadsheetQueryIn
 
 bp = Blueprint("forecasts", __name__)
@@ -101,7 +102,9 @@ def create_forecast() -> Response:
     payload = request.get_json(silent=True)
     if payload is None:
         raise BadRequest("the body must be a JSON object (Content-Type: application/json)")
-    _, body = run_forecast(_to_si(payload), current_app.config["MAX_CELL_STEPS"])
+    _, body = run_forecast(
+        _to_si(payload), current_app.config["MAX_CELL_STEPS"], request_deadline()
+    )
     return _render(body, fmt)
 
 
@@ -127,7 +130,9 @@ def query_forecast() -> Response:
         raise InvalidScenarioError(
             [{"field": n, "message": f"required for shape {query.shape}"} for n in missing]
         )
-    _, body = run_forecast(query.scenario_payload(), current_app.config["MAX_CELL_STEPS"])
+    _, body = run_forecast(
+        query.scenario_payload(), current_app.config["MAX_CELL_STEPS"], request_deadline()
+    )
     value = request.args.get("value")
     if value is None:
         return _render(body, _format("csv"))

@@ -7,6 +7,7 @@ from flask import Blueprint, Response, current_app, jsonify, request
 from werkzeug.exceptions import NotFound
 
 from service.convert import forecast_csv
+from service.limits import request_deadline
 from service.monitoring import pour_forecast, pour_status
 from service.store import get_db, get_pour, readings_for
 
@@ -23,7 +24,9 @@ def _pour_and_readings(pour_id: str) -> tuple[dict[str, Any], list[dict[str, Any
 
 def _body(pour: dict[str, Any], readings: list[dict[str, Any]]) -> dict[str, Any]:
     fit_placement = request.args.get("fit_placement", "false").lower() == "true"
-    return pour_forecast(pour, readings, current_app.config["MAX_CELL_STEPS"], fit_placement)
+    return pour_forecast(
+        pour, readings, current_app.config["MAX_CELL_STEPS"], fit_placement, request_deadline()
+    )
 
 
 @bp.get("/v1/pours/<pour_id>/forecast")

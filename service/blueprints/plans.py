@@ -3,6 +3,7 @@
 from flask import Blueprint, Response, current_app, jsonify, request
 from werkzeug.exceptions import BadRequest
 
+from service.limits import request_deadline
 from service.planning import comparison_csv, run_comparison, run_plan
 
 bp = Blueprint("plans", __name__)
@@ -18,13 +19,13 @@ def _json_body() -> object:
 @bp.post("/v1/plans")
 def create_plan() -> Response:
     """Solve for each requested control on whole forecasts."""
-    return jsonify(run_plan(_json_body(), current_app.config["MAX_CELL_STEPS"]))
+    return jsonify(run_plan(_json_body(), current_app.config["MAX_CELL_STEPS"], request_deadline()))
 
 
 @bp.post("/v1/comparisons")
 def create_comparison() -> Response:
     """Forecast a base scenario and its variants; one summary row each, JSON or CSV."""
-    body = run_comparison(_json_body(), current_app.config["MAX_CELL_STEPS"])
+    body = run_comparison(_json_body(), current_app.config["MAX_CELL_STEPS"], request_deadline())
     wants_csv = request.args.get("format") == "csv" or (
         request.accept_mimetypes.best_match(["application/json", "text/csv"]) == "text/csv"
         and request.accept_mimetypes["text/csv"] > request.accept_mimetypes["application/json"]
