@@ -1,7 +1,6 @@
 """Monitoring of stored pours: calibrate to the readings so far, re-forecast, summarise status."""
 
 from dataclasses import replace
-from datetime import datetime
 from functools import partial
 from typing import Any
 
@@ -155,8 +154,3 @@ def status_line(status: dict[str, Any]) -> str:
         f"max differential {status['forecast_max_differential_c']} C; {verdict}; insulation "
         f"removal {'not planned' if removal is None else f'in {removal} h'}"
     )
-
-
-def hours_since(placed_at: datetime, time: datetime) -> float:
-    """Hours from placement to a time [h]."""
-    return (time - placed_at).total_seconds() / 3600.0
