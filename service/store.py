@@ -52,7 +52,14 @@ CREATE TABLE IF NOT EXISTS readings (
     PRIMARY KEY (pour_id, sensor, time)
 );
 CREATE INDEX IF NOT EXISTS readings_by_time ON readings (pour_id, time);
+CREATE TABLE IF NOT EXISTS statuses (
+    pour_id TEXT PRIMARY KEY REFERENCES pours(id),
+    computed_at TEXT NOT NULL,          -- UTC ISO 8601
+    status TEXT NOT NULL                -- JSON, the latest GET /v1/pours/<id>/status
+);
 """
+SCHEMA_LAST_OBJECT = "statuses"
+"""The schema is (re)applied, idempotently, when this table is missing."""
 
 BUSY_TIMEOUT_MS = 5000
 """How long a connection waits for another writer's lock [ms]."""
@@ -97,7 +104,8 @@ def connect(path: str) -> sqlite3.Connection:
     db.execute("PRAGMA journal_mode=WAL")
     db.execute("PRAGMA synchronous=FULL")
     db.execute("PRAGMA foreign_keys=ON")
-    if db.execute("SELECT 1 FROM sqlite_master WHERE name = 'readings_by_time'").fetchone() is None:
+    found = db.execute("SELECT 1 FROM sqlite_master WHERE name = ?", (SCHEMA_LAST_OBJECT,))
+    if found.fetchone() is None:
         db.executescript(SCHEMA)
     return db
 
@@ -265,3 +273,22 @@ def readings_for(
         }
         for row in db.execute(sql, params)
     ]
+
+
+def save_status(db: sqlite3.Connection, pour_id: str, status: dict[str, Any]) -> None:
+    """Keep the latest computed status of a pour (replacing the previous one)."""
+    with _write(db):
+        db.execute(
+            "INSERT OR REPLACE INTO statuses (pour_id, computed_at, status) VALUES (?, ?, ?)",
+            (pour_id, stored_time(datetime.now(UTC)), json.dumps(status)),
+        )
+
+
+def latest_status(db: sqlite3.Connection, pour_id: str) -> dict[str, Any] | None:
+    """The latest computed status of a pour with its ``computed_at`` time (ISO, UTC), or None."""
+    row = db.execute(
+        "SELECT computed_at, status FROM statuses WHERE pour_id = ?", (pour_id,)
+    ).fetchone()
+    if row is None:
+        return None
+    return {**json.loads(row["status"]), "computed_at": iso_utc(parse_stored(row["computed_at"]))}

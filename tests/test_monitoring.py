@@ -182,3 +182,14 @@ def test_watch_sends_the_token_from_the_environment(monkeypatch):
     monkeypatch.setattr(urllib.request, "urlopen", fake_urlopen)
     assert cli._http("GET", "http://127.0.0.1:8000/healthz") == (200, {})
     assert seen["authorization"] == "Bearer s3cret-token-for-tests"
+
+
+def test_show_pour_carries_the_latest_status(client):
+    pour = _create(client)
+    assert client.get(f"/v1/pours/{pour}").get_json()["latest_status"] is None
+    csv_text, _ = _truth_csv(client, hours=12)
+    client.post(f"/v1/pours/{pour}/readings", data=csv_text, content_type="text/csv")
+    status = client.get(f"/v1/pours/{pour}/status").get_json()
+    shown = client.get(f"/v1/pours/{pour}").get_json()["latest_status"]
+    assert shown["now_h"] == status["now_h"] == pytest.approx(12.0)
+    assert shown["computed_at"].endswith("Z")

@@ -9,7 +9,7 @@ from werkzeug.exceptions import NotFound
 from service.convert import forecast_csv
 from service.limits import request_deadline
 from service.monitoring import pour_forecast, pour_status
-from service.store import get_db, get_pour, readings_for
+from service.store import get_db, get_pour, readings_for, save_status
 
 bp = Blueprint("monitoring", __name__)
 
@@ -52,4 +52,6 @@ def forecast_pour(pour_id: str) -> Response:
 def status(pour_id: str) -> Response:
     """Measured and forecast extremes, limit status, hours until insulation may come off."""
     pour, readings = _pour_and_readings(pour_id)
-    return jsonify(pour_status(pour, readings, _body(pour, readings)))
+    result = pour_status(pour, readings, _body(pour, readings))
+    save_status(get_db(), pour_id, result)
+    return jsonify(result)

@@ -176,6 +176,7 @@ def show_pour(pour_id: str) -> Response:
             "sensors": _sensor_ids(pour["scenario"]),
             "readings_count": count,
             "last_reading_time": _last(last),
+            "latest_status": store.latest_status(store.get_db(), pour_id),
             "links": {
                 "status": url_for("monitoring.status", pour_id=pour_id),
                 "forecast": url_for("monitoring.forecast_pour", pour_id=pour_id),
