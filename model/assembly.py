@@ -185,6 +185,32 @@ class SymmetricPattern:
         self._position = order.data.astype(np.int64) - 1
         self._indices, self._indptr = order.indices, order.indptr
         self._links, self._shape = links, (n, n)
+        self._p, self._q = network.link_p, network.link_q
+        self.tridiagonal = bool(np.all(network.link_q == network.link_p + 1))
+        """Whether every link joins consecutive cells (slabs): banded solves apply."""
+
+    def product(
+        self,
+        link_values: NDArray[np.float64],
+        diagonal: NDArray[np.float64],
+        x: NDArray[np.float64],
+    ) -> NDArray[np.float64]:
+        """``matrix(link_values, diagonal) @ x`` without building the matrix."""
+        n = self._shape[0]
+        return (
+            diagonal * x
+            + np.bincount(self._p, link_values * x[self._q], n)
+            + np.bincount(self._q, link_values * x[self._p], n)
+        )
+
+    def upper_band(
+        self, link_values: NDArray[np.float64], diagonal: NDArray[np.float64]
+    ) -> NDArray[np.float64]:
+        """The matrix in LAPACK upper banded form, shape (2, n), for a tridiagonal pattern."""
+        band = np.zeros((2, self._shape[0]))
+        band[0, self._q] = link_values
+        band[1] = diagonal
+        return band
 
     def matrix(
         self, link_values: NDArray[np.float64], diagonal: NDArray[np.float64]

@@ -9,6 +9,7 @@ apply (Saad, "Iterative Methods for Sparse Linear Systems", 2nd ed., 2003, algor
 from collections.abc import Callable
 
 import numpy as np
+import scipy.linalg
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 from numpy.typing import NDArray
@@ -61,6 +62,22 @@ def conjugate_gradients(
         p += z
         rz = rz_new
     raise LinearSolveError(f"conjugate gradients did not converge in {max_iterations} iterations")
+
+
+def factorise_banded(upper_band: NDArray[np.float64]) -> Solve:
+    """Cholesky-factorise a symmetric positive definite tridiagonal matrix given in LAPACK upper
+    banded form (scipy.linalg.cholesky_banded) and return its solver.
+
+    Raises
+    ------
+    LinearSolveError
+        If the matrix is not positive definite (the step is then retried smaller).
+    """
+    try:
+        factor = scipy.linalg.cholesky_banded(upper_band, check_finite=False)
+    except np.linalg.LinAlgError as error:
+        raise LinearSolveError(f"step matrix not positive definite: {error}") from error
+    return lambda rhs: scipy.linalg.cho_solve_banded((factor, False), rhs, check_finite=False)
 
 
 def factorise(matrix: sp.csr_array) -> Solve:

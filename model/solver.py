@@ -52,7 +52,7 @@ from model.boundaries import (
 )
 from model.grid import build_domain
 from model.hydration import degree_of_hydration, hydration_slope_per_h
-from model.linear import LinearSolveError, factorise
+from model.linear import LinearSolveError, factorise, factorise_banded
 from model.maturity import arrhenius_factor, arrhenius_factor_slope, nurse_saul_factor_ch
 from model.properties import conductivity_w_mk, specific_heat_j_kgk
 from model.results import EnergyBalance, Forecast, Summary, time_of_max
@@ -238,7 +238,6 @@ class ThermalSolver:
         time_h = state.time_h + step_h
         conductivity, capacity = self._properties(a_pred, t_pred)
         links, k_diag, load, bounds = self._conduction(time_h, conductivity)
-        k_mat = self.pattern.matrix(-links, k_diag)
         conc = self._is_concrete
 
         def hydration(temperature: NDArray[np.float64]):
@@ -254,9 +253,10 @@ class ThermalSolver:
                 * hydration_slope_per_h(te, hyd.tau_h, hyd.beta, hyd.alpha_u)
                 * arrhenius_factor_slope(temperature, hyd.activation_energy_j_mol)
             )
-            return factorise(
-                self.pattern.matrix(-gamma_s * links, capacity - source + gamma_s * k_diag)
-            )
+            diagonal = capacity - source + gamma_s * k_diag
+            if self.pattern.tridiagonal:
+                return factorise_banded(self.pattern.upper_band(-gamma_s * links, diagonal))
+            return factorise(self.pattern.matrix(-gamma_s * links, diagonal))
 
         temperature = t_pred.copy()
         te, alpha = hydration(temperature)
@@ -268,7 +268,7 @@ class ThermalSolver:
             for iteration in range(2 * MAX_NEWTON_ITERATIONS):
                 residual = (
                     capacity * (temperature - t_hist)
-                    + gamma_s * (k_mat @ temperature - load)
+                    + gamma_s * (self.pattern.product(-links, k_diag, temperature) - load)
                     - self._heat_j * (alpha - a_hist)
                 )
                 if np.max(np.abs(residual / diagonal)) < NEWTON_TOLERANCE_C:
