@@ -85,6 +85,6 @@ def factorise(matrix: sp.csr_array) -> Solve:
     if matrix.shape[0] <= DIRECT_SOLVE_MAX_CELLS:
         # A symmetric CSR matrix has the same arrays as its CSC form.
         csc = sp.csc_array((matrix.data, matrix.indices, matrix.indptr), shape=matrix.shape)
-        return spla.splu(csc).solve
+        return spla.splu(csc, permc_spec="MMD_AT_PLUS_A").solve
     inverse_diagonal = 1.0 / matrix.diagonal()
     return lambda rhs: conjugate_gradients(matrix, rhs, inverse_diagonal)

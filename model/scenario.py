@@ -155,6 +155,7 @@ class Resolution:
     first_step_h : first step, and the step after a sudden change at a face [h]
     alpha_change : target largest change of degree of hydration per step [-]
     temperature_change_c : target largest temperature change per step [C]
+    error_tolerance_c : target estimated local time-stepping error per step [C]
     """
 
     surface_cell_m: float = 0.01
@@ -162,10 +163,11 @@ class Resolution:
     max_cell_m: float = 0.10
     min_cells_across: float = 16.0
     ground_cell_factor: float = 3.0
-    max_step_h: float = 1.0
+    max_step_h: float = 6.0
     first_step_h: float = 0.05
-    alpha_change: float = 0.004
-    temperature_change_c: float = 0.5
+    alpha_change: float = 0.03
+    temperature_change_c: float = 2.0
+    error_tolerance_c: float = 0.0005
 
     def refined(self, factor: float) -> "Resolution":
         """Settings with cells and steps divided by ``factor`` (for convergence studies)."""
@@ -179,6 +181,7 @@ class Resolution:
             first_step_h=self.first_step_h / factor,
             alpha_change=self.alpha_change / factor,
             temperature_change_c=self.temperature_change_c / factor,
+            error_tolerance_c=self.error_tolerance_c / factor**3,
         )
 
 

@@ -14,8 +14,10 @@ step is ``Hu Cc (alpha_{n+1} - alpha_hist)`` with alpha taken from the equivalen
 heat released over the forecast is exactly ``Hu Cc`` times the change in degree of hydration.
 Properties that depend on hydration are evaluated at the state extrapolated to the end of the
 step, which keeps second-order accuracy. Step sizes adapt to the change of degree of hydration
-and of temperature per step, so the hydration peak is resolved, and land on every reporting time
-and every insulation or form removal.
+and of temperature per step, so the hydration peak is resolved, and land on every insulation or
+form removal; reported times between steps are interpolated by a cubic spline through the step
+values of each stretch between removals (de Boor 1978, "A Practical Guide to Splines"), so the
+reporting interval does not force steps.
 
 References
 ----------
@@ -31,6 +33,7 @@ from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import NDArray
+from scipy.interpolate import make_interp_spline
 
 from model.assembly import (
     DEEP,
@@ -52,7 +55,7 @@ from model.boundaries import (
 )
 from model.grid import build_domain
 from model.hydration import degree_of_hydration, hydration_slope_per_h
-from model.linear import LinearSolveError, factorise, factorise_banded
+from model.linear import LinearSolveError, Solve, factorise, factorise_banded
 from model.maturity import arrhenius_factor, arrhenius_factor_slope, nurse_saul_factor_ch
 from model.properties import conductivity_w_mk, specific_heat_j_kgk
 from model.results import EnergyBalance, Forecast, Summary, time_of_max
@@ -64,6 +67,15 @@ log = logging.getLogger(__name__)
 NEWTON_TOLERANCE_C = 1e-6
 """Newton iterations stop when every cell's residual, scaled by its diagonal, is below this [C]."""
 MAX_NEWTON_ITERATIONS = 12
+STALE_ITERATIONS = 4
+"""Newton iterations allowed on a step matrix kept from an earlier step before it is factorised
+afresh."""
+STALE_MISMATCH = 0.1
+"""A factorised step matrix is kept for later steps whose effective step (``gamma``) differs from
+its own by at most this fraction; the chord iteration then still contracts quickly."""
+STEP_HOLD = (0.9, 1.25)
+"""A step stays the same size while the controller's factor lies in this range, so its
+factorised matrix can be reused."""
 MAX_STEP_GROWTH = 1.5
 """Largest ratio of a step to the previous one (BDF2 is zero-stable below 1 + sqrt(2))."""
 REJECT_RATIO = 2.0
@@ -113,6 +125,8 @@ class ThermalSolver:
             0.0,
         )
         self._faces = self._face_laws()
+        self._factor: tuple[float, Solve] | None = None
+        """The last factorised step matrix and its ``gamma_s``, reused while the step holds."""
 
     # -- material and boundary laws -------------------------------------------------------
     def _face_laws(self) -> dict[str, Face | None]:
@@ -264,7 +278,10 @@ class ThermalSolver:
         # which decides convergence without another solve.
         diagonal = capacity + gamma_s * k_diag
         try:
-            solve = jacobian(temperature, te)
+            fresh = self._factor is None or abs(gamma_s / self._factor[0] - 1.0) > STALE_MISMATCH
+            if fresh:
+                self._factor = (gamma_s, jacobian(temperature, te))
+            solve = self._factor[1]  # type: ignore[index]
             for iteration in range(2 * MAX_NEWTON_ITERATIONS):
                 residual = (
                     capacity * (temperature - t_hist)
@@ -277,28 +294,27 @@ class ThermalSolver:
                 te, alpha = hydration(temperature)
                 if not np.all(np.isfinite(temperature)):
                     return None
-                if iteration + 1 == MAX_NEWTON_ITERATIONS:
+                if iteration + 1 == (MAX_NEWTON_ITERATIONS if fresh else STALE_ITERATIONS):
                     solve = jacobian(temperature, te)
+                    self._factor, fresh = (gamma_s, solve), True
             else:
                 return None
         except LinearSolveError:
+            self._factor = None
             return None
         return _State(time_h, temperature, te, alpha), capacity, bounds
 
-    def _targets(self) -> tuple[list[float], set[float]]:
-        """Times the steps must land on, and the subset after which the history restarts."""
+    def _targets(self) -> list[float]:
+        """Times the steps must land on: every removal at a face (after which the history
+        restarts) and the end of the forecast."""
         sc = self.scenario
-        n = int(math.floor(sc.duration_h / sc.output_interval_h + 1e-9))
-        outputs = [i * sc.output_interval_h for i in range(1, n + 1)]
-        if not outputs or outputs[-1] < sc.duration_h - 1e-9:
-            outputs.append(sc.duration_h)
         events = {
             t
             for name in sc.element.face_names()
             for t in sc.face(name).removal_times_h()
             if 0.0 < t < sc.duration_h
         }
-        return sorted(set(outputs) | events), events
+        return sorted(events) + [sc.duration_h]
 
     def run(self, deadline: float | None = None) -> Forecast:
         """March from placement to the end of the forecast and summarise.
@@ -307,13 +323,15 @@ class ThermalSolver:
         :class:`DeadlineExceededError` (a wall-clock cap for services).
         """
         res = self.scenario.settings
-        targets, restarts = self._targets()
+        targets = self._targets()
         state, previous = self._initial_state(), None
         conductivity, capacity = self._properties(state.alpha, state.temperature_c)
+        heat_rise_c = float(np.max(self._heat_j / capacity))
         bounds = self._boundaries(0.0, conductivity)
         record = _Recorder(self)
         record.add(state, self._heat_loss_w(state.temperature_c, bounds))
         desired, last_step = res.first_step_h, math.inf
+        older: _State | None = None
         generated = stored = lost = 0.0
         for target in targets:
             while state.time_h < target - 1e-9:
@@ -333,6 +351,16 @@ class ThermalSolver:
                         np.max(np.abs(new.alpha - state.alpha)) / res.alpha_change,
                         np.max(np.abs(new.temperature_c - state.temperature_c))
                         / res.temperature_change_c,
+                        _error_ratio(
+                            new,
+                            state,
+                            previous,
+                            older,
+                            res.error_tolerance_c,
+                            heat_rise_c,
+                            self._is_concrete,
+                        )
+                        ** (1 / 3),
                     )
                 if outcome is None or (change > REJECT_RATIO and step > 1e-3 * res.first_step_h):
                     if step <= 1e-4 * res.first_step_h:
@@ -345,12 +373,45 @@ class ThermalSolver:
                 stored += float(np.sum(capacity * (new.temperature_c - state.temperature_c)))
                 lost += 0.5 * (record.loss_w[-1] + loss) * step * _SECONDS_PER_HOUR
                 record.add(new, loss)
-                previous, state, last_step = state, new, step
-                desired = step * min(MAX_STEP_GROWTH, 0.9 / max(change, 1e-6))
-            if target in restarts:
-                previous, desired = None, res.first_step_h
+                older, previous, state, last_step = previous, state, new, step
+                factor = min(MAX_STEP_GROWTH, 0.9 / max(change, 1e-6))
+                desired = step if STEP_HOLD[0] <= factor < STEP_HOLD[1] else step * factor
+            older, previous, desired = None, None, res.first_step_h
         log.debug("forecast: %d cells, %d steps", self.network.size, len(record.time_h) - 1)
-        return record.forecast(targets, EnergyBalance(generated, stored, lost))
+        return record.forecast(targets[:-1], EnergyBalance(generated, stored, lost))
+
+
+def _error_ratio(
+    new: _State,
+    state: _State,
+    previous: _State | None,
+    older: _State | None,
+    tolerance_c: float,
+    heat_rise_c: float,
+    cells: NDArray[np.bool_],
+) -> float:
+    """Estimated local error of a BDF2 step over its tolerance (0 without three past states).
+
+    The estimate is ``C3 / (1 + C3)`` times the gap between the new values and their quadratic
+    extrapolation from the three previous steps, ``C3 = 2/9`` being the error constant of BDF2
+    (Hairer & Wanner 1996, section III.5; the constant-step value is used for variable steps, as
+    is usual). Both temperatures [C] and degrees of hydration are checked, the latter as the
+    temperature rise their error would release without losses (``heat_rise_c`` per unit), in
+    the ``cells`` reported on (the concrete).
+    """
+    if previous is None or older is None:
+        return 0.0
+    t, t0, t1, t2 = new.time_h, state.time_h, previous.time_h, older.time_h
+    w0 = (t - t1) * (t - t2) / ((t0 - t1) * (t0 - t2))
+    w1 = (t - t0) * (t - t2) / ((t1 - t0) * (t1 - t2))
+    w2 = (t - t0) * (t - t1) / ((t2 - t0) * (t2 - t1))
+    predicted = w0 * state.temperature_c + w1 * previous.temperature_c + w2 * older.temperature_c
+    predicted_alpha = w0 * state.alpha + w1 * previous.alpha + w2 * older.alpha
+    gap = max(
+        float(np.max(np.abs(new.temperature_c - predicted)[cells])),
+        heat_rise_c * float(np.max(np.abs(new.alpha - predicted_alpha)[cells])),
+    )
+    return (2.0 / 11.0) * gap / tolerance_c
 
 
 class _Recorder:
@@ -384,7 +445,7 @@ class _Recorder:
         self.core_alpha.append(float(state.alpha[hottest]))
         self.sample_te.append(self.solver.sampler.matrix @ state.equivalent_age_h)
 
-    def forecast(self, targets: list[float], energy: EnergyBalance) -> Forecast:
+    def forecast(self, restarts_h: list[float], energy: EnergyBalance) -> Forecast:
         sc = self.solver.scenario
         sampler = self.solver.sampler
         time = np.array(self.time_h)
@@ -396,9 +457,11 @@ class _Recorder:
         coolest_sample = layer[np.argmin(layer_values, axis=1)]
         surface = layer_values.min(axis=1)
         steps = np.arange(time.size)
-        surface_te = np.array(self.sample_te)[steps, coolest_sample]
+        sample_te = np.array(self.sample_te)
+        surface_te = sample_te[steps, coolest_sample]
         differential = core - surface
-        spread = core - np.array(self.coolest)
+        coolest = np.array(self.coolest)
+        spread = core - coolest
         peak, peak_t = time_of_max(time, core)
         dmax, dmax_t = time_of_max(time, differential)
         smax, smax_t = time_of_max(time, spread)
@@ -415,28 +478,27 @@ class _Recorder:
         )
         core_ns = nurse_saul_factor_ch(time, core, sc.nurse_saul_datum_c)
         surface_ns = nurse_saul_factor_ch(time, surface, sc.nurse_saul_datum_c)
-        report = np.concatenate([[0.0], np.asarray(targets)])
-        keep = np.searchsorted(time, report - 1e-9)
-        keep = keep[np.isin(report, _output_times(sc.duration_h, sc.output_interval_h))]
+        report = _output_times(sc.duration_h, sc.output_interval_h)
+        at = _dense_output(time, restarts_h, report)
         return Forecast(
-            time_h=time[keep],
-            core_c=core[keep],
-            surface_c=surface[keep],
-            differential_c=differential[keep],
-            coolest_c=np.array(self.coolest)[keep],
-            spread_c=spread[keep],
-            air_c=sc.ambient.air_temperature_c(time[keep]),
-            faces_c={n: v[keep] for n, v in faces.items()},
-            sensors_c={s: samples[keep, row] for s, row in sampler.sensor_rows.items()},
-            core_equivalent_age_h=np.array(self.core_te)[keep],
-            surface_equivalent_age_h=surface_te[keep],
-            core_degree_of_hydration=np.array(self.core_alpha)[keep],
-            mean_c=np.array(self.mean)[keep],
+            time_h=report,
+            core_c=at(core),
+            surface_c=at(surface),
+            differential_c=at(differential),
+            coolest_c=at(coolest),
+            spread_c=at(spread),
+            air_c=sc.ambient.air_temperature_c(report),
+            faces_c={n: at(v) for n, v in faces.items()},
+            sensors_c={s: at(samples[:, row]) for s, row in sampler.sensor_rows.items()},
+            core_equivalent_age_h=at(np.array(self.core_te)),
+            surface_equivalent_age_h=at(surface_te),
+            core_degree_of_hydration=at(np.array(self.core_alpha)),
+            mean_c=at(np.array(self.mean)),
             sensors_equivalent_age_h={
-                s: np.array(self.sample_te)[keep, row] for s, row in sampler.sensor_rows.items()
+                s: at(sample_te[:, row]) for s, row in sampler.sensor_rows.items()
             },
-            core_nurse_saul_ch=core_ns[keep],
-            surface_nurse_saul_ch=surface_ns[keep],
+            core_nurse_saul_ch=at(core_ns),
+            surface_nurse_saul_ch=at(surface_ns),
             summary=summary,
             energy=energy,
             steps=time.size - 1,
@@ -448,6 +510,35 @@ class _Recorder:
                 "differential_c": differential,
             },
         )
+
+
+def _dense_output(
+    time_h: NDArray[np.float64], restarts_h: list[float], report_h: NDArray[np.float64]
+):
+    """Interpolator from values at every step to values at the reported times.
+
+    A cubic interpolating spline (not-a-knot; de Boor 1978) through the step values of each
+    stretch between removals at faces, where the solution has a kink; stretches of fewer than
+    four steps use the highest order their points allow. Reported times that are step times get
+    the step values exactly.
+    """
+    restarts = np.asarray(restarts_h, dtype=float)
+    edges = [0, *np.searchsorted(time_h, restarts - 1e-9).tolist(), time_h.size - 1]
+    piece_of_report = np.searchsorted(restarts, report_h - 1e-9)
+    pieces = [
+        (lo, hi, np.flatnonzero(piece_of_report == i))
+        for i, (lo, hi) in enumerate(zip(edges[:-1], edges[1:], strict=True))
+    ]
+
+    def at(values: NDArray[np.float64]) -> NDArray[np.float64]:
+        out = np.empty(report_h.shape + values.shape[1:])
+        for lo, hi, rows in pieces:
+            x = time_h[lo : hi + 1]
+            spline = make_interp_spline(x, values[lo : hi + 1], k=min(3, x.size - 1), axis=0)
+            out[rows] = spline(np.clip(report_h[rows], x[0], x[-1]))
+        return out
+
+    return at
 
 
 def _output_times(duration_h: float, interval_h: float) -> NDArray[np.float64]:

@@ -51,4 +51,5 @@ def uniform(cell_m: float, step_h: float) -> Resolution:
         first_step_h=step_h,
         alpha_change=1e9,
         temperature_change_c=1e9,
+        error_tolerance_c=1e9,
     )
