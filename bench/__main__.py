@@ -28,8 +28,14 @@ from model.solver import forecast
 from tests.reference import mol
 
 HYD = HydrationParameters(460000.0, 13.0, 0.9, 0.75, 41000.0)
-CONCRETE = Concrete(380.0, HYD, MixMasses(380.0, 1860.0, 160.0), density_kg_m3=2400.0,
-                    specific_heat_j_kgk=1000.0, conductivity_w_mk=2.5)
+CONCRETE = Concrete(
+    380.0,
+    HYD,
+    MixMasses(380.0, 1860.0, 160.0),
+    density_kg_m3=2400.0,
+    specific_heat_j_kgk=1000.0,
+    conductivity_w_mk=2.5,
+)
 TOP_FILM_W_M2K, TOP_R = 12.0, 0.5
 README = Path(__file__).resolve().parents[1] / "README.md"
 START, END = "<!-- bench:start -->", "<!-- bench:end -->"
@@ -52,10 +58,16 @@ def timed(function: Callable[[], Any], repeat: int = 3) -> tuple[Any, float, flo
 def mat_1d(resolution: Resolution | None = None) -> Scenario:
     """2.5 m mat, insulated top, adiabatic bottom, constant air, 240 h."""
     return Scenario(
-        element=Element("slab", 2.5), concrete=CONCRETE, ambient=Ambient(air_c=15.0),
-        faces={"top": Face(film_coefficient_w_m2k=TOP_FILM_W_M2K, insulation_r_m2k_w=TOP_R),
-               "bottom": Face(adiabatic=True)},
-        placement_c=20.0, duration_h=240.0, resolution=resolution,
+        element=Element("slab", 2.5),
+        concrete=CONCRETE,
+        ambient=Ambient(air_c=15.0),
+        faces={
+            "top": Face(film_coefficient_w_m2k=TOP_FILM_W_M2K, insulation_r_m2k_w=TOP_R),
+            "bottom": Face(adiabatic=True),
+        },
+        placement_c=20.0,
+        duration_h=240.0,
+        resolution=resolution,
     )
 
 
@@ -66,15 +78,33 @@ def case_1d() -> dict[str, Any]:
     u_top = 1.0 / (TOP_R + 1.0 / TOP_FILM_W_M2K)
 
     def reference(cells: int, rtol: float) -> dict[str, float]:
-        result = mol.hydrating_slab(2.5, cells, 20.0, 15.0, u_top, None, 380.0, HYD.total_heat_j_kg,
-                                    HYD.tau_h, HYD.beta, HYD.alpha_u, HYD.activation_energy_j_mol,
-                                    2400.0, 1000.0, 2.5, 240.0, np.arange(0.0, 240.001, 1.0),
-                                    rtol=rtol, atol=1e-6)
+        result = mol.hydrating_slab(
+            2.5,
+            cells,
+            20.0,
+            15.0,
+            u_top,
+            None,
+            380.0,
+            HYD.total_heat_j_kg,
+            HYD.tau_h,
+            HYD.beta,
+            HYD.alpha_u,
+            HYD.activation_energy_j_mol,
+            2400.0,
+            1000.0,
+            2.5,
+            240.0,
+            np.arange(0.0, 240.001, 1.0),
+            rtol=rtol,
+            atol=1e-6,
+        )
         return mol.summary(result, 0.05, bottom_exposed=False)
 
     def error(s_peak: float, s_diff: float) -> float:
-        return max(abs(s_peak - converged.peak_temperature_c),
-                   abs(s_diff - converged.max_differential_c))
+        return max(
+            abs(s_peak - converged.peak_temperature_c), abs(s_diff - converged.max_differential_c)
+        )
 
     tuned = None
     for cells in (25, 40, 60, 90, 130):  # the cheapest setting within 0.1 C of converged
@@ -90,7 +120,9 @@ def case_1d() -> dict[str, Any]:
     return {
         "case": "1D 2.5 m mat, 240 h",
         "reference": f"solve_ivp BDF method of lines, {tuned[0]} cells, rtol {tuned[1]:g}",
-        "time_s": t_ours, "reference_s": t_ref, "memory_mb": mem,
+        "time_s": t_ours,
+        "reference_s": t_ref,
+        "memory_mb": mem,
         "error_c": error(ours.peak_temperature_c, ours.max_differential_c),
         "reference_error_c": error(ref["peak_c"], ref["max_differential_c"]),
         "target": "at least as fast as the reference",
@@ -101,39 +133,67 @@ def case_1d() -> dict[str, Any]:
 def footing_2d(resolution: Resolution | None = None) -> Scenario:
     """4 m x 3 m footing section on a 3 m ground layer, 336 h."""
     return Scenario(
-        element=Element("section", 3.0, width_m=4.0), concrete=CONCRETE,
+        element=Element("section", 3.0, width_m=4.0),
+        concrete=CONCRETE,
         ambient=Ambient(daily_min_c=8.0, daily_max_c=22.0, wind_m_s=3.0),
-        faces={"top": Face(insulation_r_m2k_w=0.5), "left": Face(formwork_r_m2k_w=0.15),
-               "right": Face(formwork_r_m2k_w=0.15)},
-        ground=Ground(depth_m=3.0, deep_temperature_c=12.0), placement_c=18.0,
-        duration_h=336.0, resolution=resolution,
+        faces={
+            "top": Face(insulation_r_m2k_w=0.5),
+            "left": Face(formwork_r_m2k_w=0.15),
+            "right": Face(formwork_r_m2k_w=0.15),
+        },
+        ground=Ground(depth_m=3.0, deep_temperature_c=12.0),
+        placement_c=18.0,
+        duration_h=336.0,
+        resolution=resolution,
     )
 
 
 def block_3d(resolution: Resolution | None = None) -> Scenario:
     """12 m x 8 m x 3 m block (quarter symmetry), insulated top, 336 h."""
     return Scenario(
-        element=Element("block", 3.0, width_m=8.0, length_m=12.0), concrete=CONCRETE,
+        element=Element("block", 3.0, width_m=8.0, length_m=12.0),
+        concrete=CONCRETE,
         ambient=Ambient(air_c=15.0),
-        faces={"top": Face(insulation_r_m2k_w=0.5), "bottom": Face(adiabatic=True),
-               **{n: Face(formwork_r_m2k_w=0.3) for n in ("left", "right", "front", "back")}},
-        placement_c=20.0, duration_h=336.0, resolution=resolution,
+        faces={
+            "top": Face(insulation_r_m2k_w=0.5),
+            "bottom": Face(adiabatic=True),
+            **{n: Face(formwork_r_m2k_w=0.3) for n in ("left", "right", "front", "back")},
+        },
+        placement_c=20.0,
+        duration_h=336.0,
+        resolution=resolution,
     )
 
 
-def case_multi(name: str, build: Callable[..., Scenario], refine: float, target_s: float,
-               repeat: int) -> dict[str, Any]:
-    converged = forecast(build(Resolution().refined(refine) if name.startswith("2D")
-                               else Resolution(surface_cell_m=0.01, growth=1.2, max_cell_m=0.125)
-                               )).summary
+def case_multi(
+    name: str, build: Callable[..., Scenario], refine: float, target_s: float, repeat: int
+) -> dict[str, Any]:
+    converged = forecast(
+        build(
+            Resolution().refined(refine)
+            if name.startswith("2D")
+            else Resolution(surface_cell_m=0.01, growth=1.2, max_cell_m=0.125)
+        )
+    ).summary
     result, seconds, mem = timed(lambda: forecast(build()), repeat)
     s = result.summary
-    err = max(abs(s.peak_temperature_c - converged.peak_temperature_c),
-              abs(s.max_differential_c - converged.max_differential_c))
-    return {"case": name, "reference": "target only (no second solver run here)",
-            "time_s": seconds, "reference_s": None, "memory_mb": mem, "error_c": err,
-            "reference_error_c": None, "target": f"under {target_s:g} s",
-            "met": seconds < target_s, "cells": result.cells, "steps": result.steps}
+    err = max(
+        abs(s.peak_temperature_c - converged.peak_temperature_c),
+        abs(s.max_differential_c - converged.max_differential_c),
+    )
+    return {
+        "case": name,
+        "reference": "target only (no second solver run here)",
+        "time_s": seconds,
+        "reference_s": None,
+        "memory_mb": mem,
+        "error_c": err,
+        "reference_error_c": None,
+        "target": f"under {target_s:g} s",
+        "met": seconds < target_s,
+        "cells": result.cells,
+        "steps": result.steps,
+    }
 
 
 def case_scaling() -> list[tuple[str, int, int, float]]:
@@ -141,8 +201,9 @@ def case_scaling() -> list[tuple[str, int, int, float]]:
     rows = []
     for label, build in (("1D", mat_1d), ("2D", footing_2d), ("3D", block_3d)):
         for factor in (0.5, 0.7, 1.0, 1.4):
-            res = Resolution(surface_cell_m=0.02 / factor, growth=1.0 + 0.3 / factor,
-                             max_cell_m=0.25 / factor)
+            res = Resolution(
+                surface_cell_m=0.02 / factor, growth=1.0 + 0.3 / factor, max_cell_m=0.25 / factor
+            )
             scenario = build(res)
             if label != "3D":
                 scenario = Scenario(**{**scenario.__dict__, "duration_h": 120.0})
@@ -169,19 +230,46 @@ def case_http(seconds: float = 30.0, clients: int = 4) -> dict[str, Any]:
     root = Path(__file__).resolve().parents[1]
     env = {**os.environ, "PORT": str(port), "POURHEAT_WORKERS": "2"}
     server = subprocess.Popen(
-        [sys.executable, "-m", "gunicorn", "-c", "deploy/gunicorn.conf.py", "--access-logfile",
-         "/dev/null", "service.app:create_app()"], cwd=root, env=env,
-        stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL, start_new_session=True)
+        [
+            sys.executable,
+            "-m",
+            "gunicorn",
+            "-c",
+            "deploy/gunicorn.conf.py",
+            "--access-logfile",
+            "/dev/null",
+            "service.app:create_app()",
+        ],
+        cwd=root,
+        env=env,
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.DEVNULL,
+        start_new_session=True,
+    )
     url = f"http://127.0.0.1:{port}"
-    body = json.dumps({
-        "element": {"shape": "slab", "thickness_m": 2.0},
-        "mix": {"cement_kg_m3": 380, "water_kg_m3": 160,
-                "hydration": {"total_heat_j_kg": 460000, "tau_h": 13.0, "beta": 0.9,
-                              "alpha_u": 0.75, "activation_energy_j_mol": 41000},
-                "density_kg_m3": 2400, "specific_heat_j_kgk": 1000, "conductivity_w_mk": 2.5},
-        "placement": {"temperature_c": 20.0}, "ambient": {"air_temperature_c": 20.0},
-        "faces": {"top": {"insulation_r_m2k_w": 0.5}, "bottom": {"adiabatic": True}},
-        "duration_h": 168}).encode()
+    body = json.dumps(
+        {
+            "element": {"shape": "slab", "thickness_m": 2.0},
+            "mix": {
+                "cement_kg_m3": 380,
+                "water_kg_m3": 160,
+                "hydration": {
+                    "total_heat_j_kg": 460000,
+                    "tau_h": 13.0,
+                    "beta": 0.9,
+                    "alpha_u": 0.75,
+                    "activation_energy_j_mol": 41000,
+                },
+                "density_kg_m3": 2400,
+                "specific_heat_j_kgk": 1000,
+                "conductivity_w_mk": 2.5,
+            },
+            "placement": {"temperature_c": 20.0},
+            "ambient": {"air_temperature_c": 20.0},
+            "faces": {"top": {"insulation_r_m2k_w": 0.5}, "bottom": {"adiabatic": True}},
+            "duration_h": 168,
+        }
+    ).encode()
     try:
         for _ in range(100):
             try:
@@ -195,8 +283,9 @@ def case_http(seconds: float = 30.0, clients: int = 4) -> dict[str, Any]:
 
         def client() -> None:
             while time.monotonic() < stop:
-                req = urllib.request.Request(f"{url}/v1/forecasts", data=body,
-                                             headers={"Content-Type": "application/json"})
+                req = urllib.request.Request(
+                    f"{url}/v1/forecasts", data=body, headers={"Content-Type": "application/json"}
+                )
                 start = time.perf_counter()
                 try:
                     with urllib.request.urlopen(req, timeout=30) as response:
@@ -214,32 +303,52 @@ def case_http(seconds: float = 30.0, clients: int = 4) -> dict[str, Any]:
         os.killpg(server.pid, 15)
         server.wait(timeout=30)
     p95 = float(np.percentile(latencies, 95))
-    return {"case": f"HTTP 1D example, {clients} clients, {seconds:g} s",
-            "p50_ms": 1000 * statistics.median(latencies), "p95_ms": 1000 * p95,
-            "throughput_per_s": len(latencies) / seconds, "errors": errors[0],
-            "target": "p95 under 150 ms", "met": p95 < 0.150 and errors[0] == 0}
+    return {
+        "case": f"HTTP 1D example, {clients} clients, {seconds:g} s",
+        "p50_ms": 1000 * statistics.median(latencies),
+        "p95_ms": 1000 * p95,
+        "throughput_per_s": len(latencies) / seconds,
+        "errors": errors[0],
+        "target": "p95 under 150 ms",
+        "met": p95 < 0.150 and errors[0] == 0,
+    }
 
 
-def markdown(rows: list[dict[str, Any]], scaling: list[tuple[str, int, int, float]] | None,
-             http: dict[str, Any] | None) -> str:
-    lines = ["| case | time [s] | reference | ref. time [s] | ratio | error vs converged [C] "
-             "| peak memory [MB] | target | met |", "|" + " --- |" * 9]
+def markdown(
+    rows: list[dict[str, Any]],
+    scaling: list[tuple[str, int, int, float]] | None,
+    http: dict[str, Any] | None,
+) -> str:
+    lines = [
+        "| case | time [s] | reference | ref. time [s] | ratio | error vs converged [C] "
+        "| peak memory [MB] | target | met |",
+        "|" + " --- |" * 9,
+    ]
     for r in rows:
         ratio = f"{r['reference_s'] / r['time_s']:.2f}x faster" if r["reference_s"] else "-"
         ref_s = f"{r['reference_s']:.3f}" if r["reference_s"] else "-"
-        lines.append(f"| {r['case']} | {r['time_s']:.3f} | {r['reference']} | {ref_s} | {ratio} "
-                     f"| {r['error_c']:.3f} | {r['memory_mb']:.0f} | {r['target']} | "
-                     f"{'yes' if r['met'] else 'no'} |")
+        lines.append(
+            f"| {r['case']} | {r['time_s']:.3f} | {r['reference']} | {ref_s} | {ratio} "
+            f"| {r['error_c']:.3f} | {r['memory_mb']:.0f} | {r['target']} | "
+            f"{'yes' if r['met'] else 'no'} |"
+        )
     if http:
-        lines += ["", f"HTTP: {http['case']}: p50 {http['p50_ms']:.0f} ms, p95 "
-                  f"{http['p95_ms']:.0f} ms, {http['throughput_per_s']:.1f} requests/s, "
-                  f"{http['errors']} errors (target {http['target']}: "
-                  f"{'met' if http['met'] else 'not met'})."]
+        lines += [
+            "",
+            f"HTTP: {http['case']}: p50 {http['p50_ms']:.0f} ms, p95 "
+            f"{http['p95_ms']:.0f} ms, {http['throughput_per_s']:.1f} requests/s, "
+            f"{http['errors']} errors (target {http['target']}: "
+            f"{'met' if http['met'] else 'not met'}).",
+        ]
     if scaling:
-        lines += ["", "| grid | cells | steps | time [s] | microseconds per cell-step |",
-                  "| --- | --- | --- | --- | --- |"]
-        lines += [f"| {g} | {c} | {s} | {t:.2f} | {1e6 * t / (c * s):.1f} |"
-                  for g, c, s, t in scaling]
+        lines += [
+            "",
+            "| grid | cells | steps | time [s] | microseconds per cell-step |",
+            "| --- | --- | --- | --- | --- |",
+        ]
+        lines += [
+            f"| {g} | {c} | {s} | {t:.2f} | {1e6 * t / (c * s):.1f} |" for g, c, s, t in scaling
+        ]
     return "\n".join(lines)
 
 
@@ -262,8 +371,10 @@ def main(argv: list[str] | None = None) -> None:
         http = case_http()
     table = markdown(rows, scaling, http)
     print(table)
-    print(f"peak resident memory of this process: "
-          f"{resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024:.0f} MB")
+    print(
+        f"peak resident memory of this process: "
+        f"{resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024:.0f} MB"
+    )
     if not args.no_readme and README.exists() and START in README.read_text():
         text = README.read_text()
         head, rest = text.split(START, 1)

@@ -5,7 +5,7 @@ after its end, linear between hours), or for air temperature a daily minimum and
 into a smooth daily cycle.
 """
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -83,6 +83,16 @@ class Ambient:
         if self.daily_min_c is not None and self.daily_max_c is not None:
             return daily_cycle_c(time_h, self.daily_min_c, self.daily_max_c, self.placement_clock_h)
         return _constant_or_hourly(time_h, self.air_c)
+
+    def shifted(self, delta_c: float) -> "Ambient":
+        """The same weather with every air temperature raised by ``delta_c`` [C]."""
+        if self.daily_min_c is not None and self.daily_max_c is not None:
+            return replace(
+                self, daily_min_c=self.daily_min_c + delta_c, daily_max_c=self.daily_max_c + delta_c
+            )
+        if isinstance(self.air_c, tuple):
+            return replace(self, air_c=tuple(t + delta_c for t in self.air_c))
+        return replace(self, air_c=self.air_c + delta_c)
 
     def wind_speed_m_s(self, time_h: ArrayLike) -> NDArray[np.float64]:
         """Wind speed at the given times [m/s]."""

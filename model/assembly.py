@@ -187,7 +187,9 @@ class SymmetricPattern:
         self._links, self._shape = links, (n, n)
         self._p, self._q = network.link_p, network.link_q
         self.tridiagonal = bool(np.all(network.link_q == network.link_p + 1))
-        """Whether every link joins consecutive cells (slabs): banded solves apply."""
+        """Whether every link joins consecutive cells (slabs): tridiagonal solves apply."""
+        self._chain = bool(np.array_equal(network.link_p, np.arange(n - 1)))
+        """Whether, besides, every cell is linked to the next (one slab, not a batch)."""
 
     def product(
         self,
@@ -196,6 +198,12 @@ class SymmetricPattern:
         x: NDArray[np.float64],
     ) -> NDArray[np.float64]:
         """``matrix(link_values, diagonal) @ x`` without building the matrix."""
+        if self.tridiagonal:
+            off = self.off_diagonal(link_values)
+            y = diagonal * x
+            y[:-1] += off * x[1:]
+            y[1:] += off * x[:-1]
+            return y
         n = self._shape[0]
         return (
             diagonal * x
@@ -203,14 +211,14 @@ class SymmetricPattern:
             + np.bincount(self._q, link_values * x[self._p], n)
         )
 
-    def upper_band(
-        self, link_values: NDArray[np.float64], diagonal: NDArray[np.float64]
-    ) -> NDArray[np.float64]:
-        """The matrix in LAPACK upper banded form, shape (2, n), for a tridiagonal pattern."""
-        band = np.zeros((2, self._shape[0]))
-        band[0, self._q] = link_values
-        band[1] = diagonal
-        return band
+    def off_diagonal(self, link_values: NDArray[np.float64]) -> NDArray[np.float64]:
+        """The first off-diagonal, length n - 1, of a tridiagonal pattern (zero between cells
+        that are not linked, as between the copies of a batch)."""
+        if self._chain:
+            return link_values
+        off = np.zeros(self._shape[0] - 1)
+        off[self._p] = link_values
+        return off
 
     def matrix(
         self, link_values: NDArray[np.float64], diagonal: NDArray[np.float64]
@@ -224,14 +232,53 @@ class SymmetricPattern:
 
 
 def boundary_conductance_w_k(
-    faces: BoundaryFaces, conductivity_w_mk: NDArray[np.float64], surface_w_m2k: float
+    faces: BoundaryFaces,
+    conductivity_w_mk: NDArray[np.float64],
+    surface_w_m2k: float | NDArray[np.float64],
 ) -> NDArray[np.float64]:
     """Conductance from each boundary cell centre to its surroundings [W/K].
 
-    The half cell is in series with the surface conductance U (``inf`` for a fixed temperature
-    face): ``G = A / (d/(2k) + 1/U)``.
+    The half cell is in series with the surface conductance U [W/(m2 K)], one value or one per
+    face (``inf`` for a fixed temperature face): ``G = A / (d/(2k) + 1/U)``.
     """
-    resistance = faces.half_width_m / conductivity_w_mk[faces.cell]
-    if np.isfinite(surface_w_m2k):
-        resistance = resistance + 1.0 / surface_w_m2k
+    resistance = faces.half_width_m / conductivity_w_mk[faces.cell] + 1.0 / np.asarray(
+        surface_w_m2k, dtype=float
+    )
     return faces.area_m2 / resistance
+
+
+def replicate(network: Network, copies: int) -> Network:
+    """``copies`` copies of a network in one, numbered copy after copy (cell ``i`` of copy ``c``
+    is ``c * n + i``), so that many variants of a forecast step as one system.
+
+    Each copy's last cell is joined to the next copy's first by a link of zero area, which
+    carries no heat; a slab's links thus stay one unbroken chain and its matrix tridiagonal.
+    """
+    n = network.size
+    shifts = n * np.arange(copies)[:, None]
+
+    def offset(cells: NDArray[np.int64], join: int) -> NDArray[np.int64]:
+        joined = np.append(cells, join)[None, :] + shifts
+        return joined.ravel()[:-1]
+
+    def tile(values: NDArray, join: float = 0.0) -> NDArray:
+        return np.tile(np.append(values, join), copies)[:-1]
+
+    return Network(
+        flat_index=np.tile(network.flat_index, copies),
+        volume_m3=np.tile(network.volume_m3, copies),
+        is_concrete=np.tile(network.is_concrete, copies),
+        link_p=offset(network.link_p, n - 1),
+        link_q=offset(network.link_q, n),
+        link_area_m2=tile(network.link_area_m2),
+        link_half_p_m=tile(network.link_half_p_m, 1.0),
+        link_half_q_m=tile(network.link_half_q_m, 1.0),
+        boundaries={
+            label: BoundaryFaces(
+                (f.cell[None, :] + shifts).ravel(),
+                np.tile(f.area_m2, copies),
+                np.tile(f.half_width_m, copies),
+            )
+            for label, f in network.boundaries.items()
+        },
+    )

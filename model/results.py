@@ -99,6 +99,27 @@ class Forecast:
         return float(self.every_step["time_h"][over[0]]) if over.size else None
 
 
+@dataclass(frozen=True)
+class BatchForecast:
+    """Forecasts of the variants of one scenario stepped together.
+
+    Series are arrays of shape (variants, reported times) on ``time_h`` [h]; summaries have one
+    entry per variant and are taken over every solver step. Temperatures in C.
+    """
+
+    time_h: NDArray[np.float64]
+    core_c: NDArray[np.float64]
+    surface_c: NDArray[np.float64]
+    differential_c: NDArray[np.float64]
+    sensors_c: dict[str, NDArray[np.float64]]
+    peak_temperature_c: NDArray[np.float64]
+    peak_time_h: NDArray[np.float64]
+    max_differential_c: NDArray[np.float64]
+    max_differential_time_h: NDArray[np.float64]
+    steps: int
+    cells: int
+
+
 def time_of_max(time_h: NDArray[np.float64], values: NDArray[np.float64]) -> tuple[float, float]:
     """The largest value and the first time it occurs: (value, time [h])."""
     i = int(np.argmax(values))

@@ -3,8 +3,11 @@
 These are value objects (frozen dataclasses) in SI units; service/ builds them from requests.
 """
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from typing import Literal
+
+import numpy as np
+from numpy.typing import NDArray
 
 from model.ambient import Ambient
 from model.boundaries import CONCRETE_EMISSIVITY
@@ -246,6 +249,53 @@ class Scenario:
     def face(self, name: str) -> Face:
         """The condition of a face; a face not given is bare concrete exposed to the air."""
         return self.faces.get(name, Face())
+
+
+@dataclass(frozen=True)
+class Variations:
+    """Variants of one scenario stepped together as a batch (uncertainty bands, sweeps).
+
+    Every attribute is an array with one entry per variant; the geometry, faces and numerical
+    settings are those of the scenario.
+
+    Attributes
+    ----------
+    placement_shift_c : added to the placement temperature [C]
+    air_shift_c : added to every air temperature [C]
+    total_heat_factor : multiplies the total heat of hydration Hu [-]
+    tau_factor : multiplies the hydration time parameter tau [-]
+    """
+
+    placement_shift_c: NDArray[np.float64]
+    air_shift_c: NDArray[np.float64]
+    total_heat_factor: NDArray[np.float64]
+    tau_factor: NDArray[np.float64]
+
+    @property
+    def size(self) -> int:
+        """Number of variants."""
+        return int(np.size(self.placement_shift_c))
+
+    def scenario(self, base: "Scenario", index: int) -> "Scenario":
+        """Variant ``index`` as a scenario of its own (what a single forecast of it takes)."""
+        hyd = base.concrete.hydration
+        hydration = replace(
+            hyd,
+            total_heat_j_kg=hyd.total_heat_j_kg * float(self.total_heat_factor[index]),
+            tau_h=hyd.tau_h * float(self.tau_factor[index]),
+        )
+        return replace(
+            base,
+            placement_c=base.placement_c + float(self.placement_shift_c[index]),
+            ambient=base.ambient.shifted(float(self.air_shift_c[index])),
+            concrete=replace(base.concrete, hydration=hydration),
+        )
+
+    @classmethod
+    def none(cls, copies: int = 1) -> "Variations":
+        """``copies`` variants identical to the scenario."""
+        zeros, ones = np.zeros(copies), np.ones(copies)
+        return cls(zeros, zeros, ones, ones)
 
 
 BLOCK_RESOLUTION = Resolution(surface_cell_m=0.02, growth=1.3, max_cell_m=0.25)

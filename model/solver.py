@@ -26,6 +26,8 @@ section III.5 (variable-step BDF) and IV.3 (L-stability).
 Schindler, A. K. and Folliard, K. J. (2005), ACI Materials Journal 102(1), 24-33.
 """
 
+from __future__ import annotations
+
 import logging
 import math
 import time
@@ -33,7 +35,6 @@ from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import NDArray
-from scipy.interpolate import make_interp_spline
 
 from model.assembly import (
     DEEP,
@@ -46,6 +47,7 @@ from model.assembly import (
     build_network,
     conduction_diagonal_w_k,
     link_conductance_w_k,
+    replicate,
 )
 from model.boundaries import (
     convection_coefficient_w_m2k,
@@ -55,12 +57,13 @@ from model.boundaries import (
 )
 from model.grid import build_domain
 from model.hydration import degree_of_hydration, hydration_slope_per_h
-from model.linear import LinearSolveError, Solve, factorise, factorise_banded
-from model.maturity import arrhenius_factor, arrhenius_factor_slope, nurse_saul_factor_ch
+from model.linear import LinearSolveError, Solve, factorise, factorise_tridiagonal
+from model.maturity import arrhenius_factor, arrhenius_factor_slope
 from model.properties import conductivity_w_mk, specific_heat_j_kgk
-from model.results import EnergyBalance, Forecast, Summary, time_of_max
+from model.recording import BatchRecorder, Recorder
+from model.results import BatchForecast, EnergyBalance, Forecast
 from model.sampling import build_sampler
-from model.scenario import Face, Scenario
+from model.scenario import Face, Scenario, Variations
 
 log = logging.getLogger(__name__)
 
@@ -92,7 +95,7 @@ class DeadlineExceededError(RuntimeError):
 
 
 @dataclass
-class _State:
+class State:
     time_h: float
     temperature_c: NDArray[np.float64]
     equivalent_age_h: NDArray[np.float64]
@@ -107,24 +110,48 @@ class ThermalSolver:
     scenario : the placement, its concrete, faces, ground and weather
     """
 
-    def __init__(self, scenario: Scenario) -> None:
+    def __init__(self, scenario: Scenario, variations: Variations | None = None) -> None:
         self.scenario = scenario
         self.domain = build_domain(scenario)
-        self.network: Network = build_network(self.domain)
+        single = build_network(self.domain)
         numbering = np.full(self.domain.material.size, -1, dtype=np.int64)
-        numbering[self.network.flat_index] = np.arange(self.network.size)
+        numbering[single.flat_index] = np.arange(single.size)
         self.sampler = build_sampler(scenario, self.domain, numbering)
+        self.variations = variations if variations is not None else Variations.none()
+        self.copies = self.variations.size
+        self.network: Network = (
+            single if variations is None else replicate(single, self.variations.size)
+        )
         self.pattern = SymmetricPattern(self.network)
+        if self.copies > 1 and not self.pattern.tridiagonal:
+            raise ValueError("batches of variants are stepped together only for slabs")
+        copy_of_cell = np.repeat(np.arange(self.copies), single.size)
+        self._copy_of_face = {
+            label: faces.cell // single.size for label, faces in self.network.boundaries.items()
+        }
         concrete = scenario.concrete
+        hyd = concrete.hydration
         self._is_concrete = self.network.is_concrete
+        self._has_ground = not bool(np.all(self._is_concrete))
         self._heat_j = np.where(
             self._is_concrete,
-            concrete.hydration.total_heat_j_kg
+            hyd.total_heat_j_kg
+            * self.variations.total_heat_factor[copy_of_cell]
             * concrete.cementitious_kg_m3
             * self.network.volume_m3,
             0.0,
         )
+        self._tau_h = hyd.tau_h * self.variations.tau_factor[copy_of_cell]
+        self._placement_c = scenario.placement_c + self.variations.placement_shift_c[copy_of_cell]
         self._faces = self._face_laws()
+        self._fixed: tuple[NDArray[np.float64], ...] | None = None
+        if concrete.conductivity_w_mk is not None and concrete.specific_heat_j_kgk is not None:
+            zeros = np.zeros(self.network.size)
+            k, capacity = self._properties(zeros, zeros)
+            links = link_conductance_w_k(self.network, k)
+            self._fixed = (k, capacity, links, conduction_diagonal_w_k(self.network, links, {}))
+        """Conductivity, heat capacity, link conductances and the links' part of the
+        conduction diagonal, when they do not change with hydration."""
         self._factor: tuple[float, Solve] | None = None
         """The last factorised step matrix and its ``gamma_s``, reused while the step holds."""
 
@@ -147,6 +174,8 @@ class ThermalSolver:
         self, alpha: NDArray[np.float64], temperature_c: NDArray[np.float64]
     ) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
         """Conductivity [W/(m K)] and heat capacity [J/K] of every solid cell."""
+        if self._fixed is not None:
+            return self._fixed[0], self._fixed[1]
         concrete, ground = self.scenario.concrete, self.scenario.ground
         conc = self._is_concrete
         if concrete.conductivity_w_mk is not None:
@@ -166,33 +195,33 @@ class ThermalSolver:
 
     def _boundaries(
         self, time_h: float, conductivity: NDArray[np.float64]
-    ) -> dict[str, tuple[NDArray[np.float64], float]]:
-        """Per active boundary label: face conductances [W/K] and surrounding temperature [C]."""
+    ) -> dict[str, tuple[NDArray[np.float64], NDArray[np.float64]]]:
+        """Per active boundary label: face conductances [W/K] and surrounding temperatures [C]."""
         amb = self.scenario.ambient
-        air = float(amb.air_temperature_c(time_h))
-        out: dict[str, tuple[NDArray[np.float64], float]] = {}
+        air = float(amb.air_temperature_c(time_h)) + self.variations.air_shift_c
+        out: dict[str, tuple[NDArray[np.float64], NDArray[np.float64]]] = {}
         for label, face in self._faces.items():
             faces = self.network.boundaries[label]
             if face is None:
                 out[label] = (
                     boundary_conductance_w_k(faces, conductivity, math.inf),
-                    self.scenario.ground.deep_temperature_c,
+                    np.full(faces.cell.size, self.scenario.ground.deep_temperature_c),
                 )  # type: ignore[union-attr]
                 continue
+            air_c = air[self._copy_of_face[label]]
             if face.film_coefficient_w_m2k is not None:
-                film = face.film_coefficient_w_m2k
+                film = np.full(air_c.shape, face.film_coefficient_w_m2k)
             else:
-                film = float(
-                    convection_coefficient_w_m2k(amb.wind_speed_m_s(time_h))
-                    + radiation_coefficient_w_m2k(air, face.emissivity)
-                )
-            u = face.conductance_factor * float(
-                surface_conductance_w_m2k(film, face.resistance_m2k_w(time_h))
+                film = convection_coefficient_w_m2k(
+                    amb.wind_speed_m_s(time_h)
+                ) + radiation_coefficient_w_m2k(air_c, face.emissivity)
+            u = face.conductance_factor * surface_conductance_w_m2k(
+                film, face.resistance_m2k_w(time_h)
             )
             absorbed = face.solar_absorptivity * float(amb.irradiance_w_m2(time_h))
             out[label] = (
                 boundary_conductance_w_k(faces, conductivity, u),
-                float(sol_air_temperature_c(air, absorbed, film)),
+                sol_air_temperature_c(air_c, absorbed, film),
             )
         return out
 
@@ -201,11 +230,16 @@ class ThermalSolver:
     ) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], dict]:
         """Link conductances and diagonal of K [W/K], boundary load g [W], boundary terms."""
         bounds = self._boundaries(time_h, conductivity)
-        links = link_conductance_w_k(self.network, conductivity)
-        diag = conduction_diagonal_w_k(self.network, links, {b: g for b, (g, _) in bounds.items()})
+        if self._fixed is not None:
+            links, diag = self._fixed[2], self._fixed[3].copy()
+        else:
+            links = link_conductance_w_k(self.network, conductivity)
+            diag = conduction_diagonal_w_k(self.network, links, {})
         load = np.zeros(self.network.size)
         for label, (g, t_env) in bounds.items():
-            load += np.bincount(self.network.boundaries[label].cell, g * t_env, self.network.size)
+            cells = self.network.boundaries[label].cell  # distinct within a label
+            diag[cells] += g
+            load[cells] += g * t_env
         return links, diag, load, bounds
 
     def _heat_loss_w(self, temperature_c: NDArray[np.float64], bounds: dict) -> float:
@@ -217,9 +251,9 @@ class ThermalSolver:
         return total
 
     # -- time stepping ---------------------------------------------------------------------
-    def _initial_state(self) -> _State:
+    def _initial_state(self) -> State:
         sc = self.scenario
-        temperature = np.full(self.network.size, sc.placement_c)
+        temperature = self._placement_c.copy()
         if sc.ground is not None:
             t_ground = (
                 sc.ground.initial_temperature_c
@@ -228,11 +262,11 @@ class ThermalSolver:
             )
             temperature[~self._is_concrete] = t_ground
         zeros = np.zeros(self.network.size)
-        return _State(0.0, temperature, zeros.copy(), zeros.copy())
+        return State(0.0, temperature, zeros.copy(), zeros.copy())
 
     def _step(
-        self, state: _State, previous: _State | None, step_h: float
-    ) -> tuple[_State, NDArray[np.float64], dict] | None:
+        self, state: State, previous: State | None, step_h: float
+    ) -> tuple[State, NDArray[np.float64], dict] | None:
         """One BDF2 step (backward Euler without history); None if Newton fails."""
         hyd = self.scenario.concrete.hydration
         if previous is None:
@@ -255,21 +289,22 @@ class ThermalSolver:
         conc = self._is_concrete
 
         def hydration(temperature: NDArray[np.float64]):
-            rate = arrhenius_factor(temperature, hyd.activation_energy_j_mol)
-            te = np.where(conc, te_hist + gamma_h * rate, 0.0)
-            alpha = np.where(conc, degree_of_hydration(te, hyd.tau_h, hyd.beta, hyd.alpha_u), 0.0)
+            te = te_hist + gamma_h * arrhenius_factor(temperature, hyd.activation_energy_j_mol)
+            alpha = degree_of_hydration(te, self._tau_h, hyd.beta, hyd.alpha_u)
+            if self._has_ground:
+                return np.where(conc, te, 0.0), np.where(conc, alpha, 0.0)
             return te, alpha
 
         def jacobian(temperature: NDArray[np.float64], te: NDArray[np.float64]):
             source = (
                 self._heat_j
                 * gamma_h
-                * hydration_slope_per_h(te, hyd.tau_h, hyd.beta, hyd.alpha_u)
+                * hydration_slope_per_h(te, self._tau_h, hyd.beta, hyd.alpha_u)
                 * arrhenius_factor_slope(temperature, hyd.activation_energy_j_mol)
             )
             diagonal = capacity - source + gamma_s * k_diag
             if self.pattern.tridiagonal:
-                return factorise_banded(self.pattern.upper_band(-gamma_s * links, diagonal))
+                return factorise_tridiagonal(diagonal, self.pattern.off_diagonal(-gamma_s * links))
             return factorise(self.pattern.matrix(-gamma_s * links, diagonal))
 
         temperature = t_pred.copy()
@@ -278,7 +313,11 @@ class ThermalSolver:
         # which decides convergence without another solve.
         diagonal = capacity + gamma_s * k_diag
         try:
-            fresh = self._factor is None or abs(gamma_s / self._factor[0] - 1.0) > STALE_MISMATCH
+            fresh = (
+                self._factor is None
+                or self.pattern.tridiagonal  # factorising costs less than an extra iteration
+                or abs(gamma_s / self._factor[0] - 1.0) > STALE_MISMATCH
+            )
             if fresh:
                 self._factor = (gamma_s, jacobian(temperature, te))
             solve = self._factor[1]  # type: ignore[index]
@@ -288,11 +327,11 @@ class ThermalSolver:
                     + gamma_s * (self.pattern.product(-links, k_diag, temperature) - load)
                     - self._heat_j * (alpha - a_hist)
                 )
-                if np.max(np.abs(residual / diagonal)) < NEWTON_TOLERANCE_C:
+                if np.abs(residual / diagonal).max() < NEWTON_TOLERANCE_C:
                     break
                 temperature = temperature - solve(residual)
                 te, alpha = hydration(temperature)
-                if not np.all(np.isfinite(temperature)):
+                if not np.isfinite(temperature).all():
                     return None
                 if iteration + 1 == (MAX_NEWTON_ITERATIONS if fresh else STALE_ITERATIONS):
                     solve = jacobian(temperature, te)
@@ -302,7 +341,7 @@ class ThermalSolver:
         except LinearSolveError:
             self._factor = None
             return None
-        return _State(time_h, temperature, te, alpha), capacity, bounds
+        return State(time_h, temperature, te, alpha), capacity, bounds
 
     def _targets(self) -> list[float]:
         """Times the steps must land on: every removal at a face (after which the history
@@ -322,16 +361,31 @@ class ThermalSolver:
         ``deadline`` is a ``time.monotonic()`` value after which the run stops with
         :class:`DeadlineExceededError` (a wall-clock cap for services).
         """
+        record = Recorder(self)
+        restarts, energy = self._march(record, deadline)
+        return record.forecast(restarts, energy)
+
+    def run_batch(self, deadline: float | None = None) -> BatchForecast:
+        """March all the variants together (one step sequence, fine enough for every one of
+        them) and summarise each; ``deadline`` as for :meth:`run`."""
+        record = BatchRecorder(self)
+        restarts, energy = self._march(record, deadline)
+        return record.forecast(restarts)
+
+    def _march(
+        self, record: Recorder | BatchRecorder, deadline: float | None
+    ) -> tuple[list[float], EnergyBalance]:
+        """Step from placement to the end, handing every accepted state to ``record``; returns
+        the removal times (where the history restarted) and the energy balance."""
         res = self.scenario.settings
         targets = self._targets()
         state, previous = self._initial_state(), None
         conductivity, capacity = self._properties(state.alpha, state.temperature_c)
         heat_rise_c = float(np.max(self._heat_j / capacity))
         bounds = self._boundaries(0.0, conductivity)
-        record = _Recorder(self)
         record.add(state, self._heat_loss_w(state.temperature_c, bounds))
         desired, last_step = res.first_step_h, math.inf
-        older: _State | None = None
+        older: State | None = None
         generated = stored = lost = 0.0
         for target in targets:
             while state.time_h < target - 1e-9:
@@ -348,8 +402,8 @@ class ThermalSolver:
                 if outcome is not None:
                     new = outcome[0]
                     change = max(
-                        np.max(np.abs(new.alpha - state.alpha)) / res.alpha_change,
-                        np.max(np.abs(new.temperature_c - state.temperature_c))
+                        np.abs(new.alpha - state.alpha).max() / res.alpha_change,
+                        np.abs(new.temperature_c - state.temperature_c).max()
                         / res.temperature_change_c,
                         _error_ratio(
                             new,
@@ -378,14 +432,14 @@ class ThermalSolver:
                 desired = step if STEP_HOLD[0] <= factor < STEP_HOLD[1] else step * factor
             older, previous, desired = None, None, res.first_step_h
         log.debug("forecast: %d cells, %d steps", self.network.size, len(record.time_h) - 1)
-        return record.forecast(targets[:-1], EnergyBalance(generated, stored, lost))
+        return targets[:-1], EnergyBalance(generated, stored, lost)
 
 
 def _error_ratio(
-    new: _State,
-    state: _State,
-    previous: _State | None,
-    older: _State | None,
+    new: State,
+    state: State,
+    previous: State | None,
+    older: State | None,
     tolerance_c: float,
     heat_rise_c: float,
     cells: NDArray[np.bool_],
@@ -408,148 +462,20 @@ def _error_ratio(
     predicted = w0 * state.temperature_c + w1 * previous.temperature_c + w2 * older.temperature_c
     predicted_alpha = w0 * state.alpha + w1 * previous.alpha + w2 * older.alpha
     gap = max(
-        float(np.max(np.abs(new.temperature_c - predicted)[cells])),
-        heat_rise_c * float(np.max(np.abs(new.alpha - predicted_alpha)[cells])),
+        float(np.abs(new.temperature_c - predicted)[cells].max()),
+        heat_rise_c * float(np.abs(new.alpha - predicted_alpha)[cells].max()),
     )
     return (2.0 / 11.0) * gap / tolerance_c
-
-
-class _Recorder:
-    """Collects the diagnostics of every accepted step and builds the Forecast."""
-
-    def __init__(self, solver: ThermalSolver) -> None:
-        self.solver = solver
-        self.concrete_cells = np.flatnonzero(solver.network.is_concrete)
-        volumes = solver.network.volume_m3[self.concrete_cells]
-        self.volume_weights = volumes / volumes.sum()
-        self.mean: list[float] = []
-        self.time_h: list[float] = []
-        self.loss_w: list[float] = []
-        self.core: list[float] = []
-        self.coolest: list[float] = []
-        self.samples: list[NDArray[np.float64]] = []
-        self.core_te: list[float] = []
-        self.core_alpha: list[float] = []
-        self.sample_te: list[NDArray[np.float64]] = []
-
-    def add(self, state: _State, loss_w: float) -> None:
-        t_conc = state.temperature_c[self.concrete_cells]
-        hottest = self.concrete_cells[int(np.argmax(t_conc))]
-        self.time_h.append(state.time_h)
-        self.loss_w.append(loss_w)
-        self.core.append(float(t_conc.max()))
-        self.coolest.append(float(t_conc.min()))
-        self.mean.append(float(self.volume_weights @ t_conc))
-        self.samples.append(self.solver.sampler.matrix @ state.temperature_c)
-        self.core_te.append(float(state.equivalent_age_h[hottest]))
-        self.core_alpha.append(float(state.alpha[hottest]))
-        self.sample_te.append(self.solver.sampler.matrix @ state.equivalent_age_h)
-
-    def forecast(self, restarts_h: list[float], energy: EnergyBalance) -> Forecast:
-        sc = self.solver.scenario
-        sampler = self.solver.sampler
-        time = np.array(self.time_h)
-        core = np.array(self.core)
-        samples = np.array(self.samples)
-        faces = {name: samples[:, rows].min(axis=1) for name, rows in sampler.face_rows.items()}
-        layer = np.concatenate(list(sampler.face_rows.values()))
-        layer_values = samples[:, layer]
-        coolest_sample = layer[np.argmin(layer_values, axis=1)]
-        surface = layer_values.min(axis=1)
-        steps = np.arange(time.size)
-        sample_te = np.array(self.sample_te)
-        surface_te = sample_te[steps, coolest_sample]
-        differential = core - surface
-        coolest = np.array(self.coolest)
-        spread = core - coolest
-        peak, peak_t = time_of_max(time, core)
-        dmax, dmax_t = time_of_max(time, differential)
-        smax, smax_t = time_of_max(time, spread)
-        summary = Summary(
-            peak_temperature_c=peak,
-            peak_time_h=peak_t,
-            max_differential_c=dmax,
-            max_differential_time_h=dmax_t,
-            max_spread_c=smax,
-            max_spread_time_h=smax_t,
-            min_surface_temperature_c=float(surface.min()),
-            final_core_equivalent_age_h=float(self.core_te[-1]),
-            final_surface_equivalent_age_h=float(surface_te[-1]),
-        )
-        core_ns = nurse_saul_factor_ch(time, core, sc.nurse_saul_datum_c)
-        surface_ns = nurse_saul_factor_ch(time, surface, sc.nurse_saul_datum_c)
-        report = _output_times(sc.duration_h, sc.output_interval_h)
-        at = _dense_output(time, restarts_h, report)
-        return Forecast(
-            time_h=report,
-            core_c=at(core),
-            surface_c=at(surface),
-            differential_c=at(differential),
-            coolest_c=at(coolest),
-            spread_c=at(spread),
-            air_c=sc.ambient.air_temperature_c(report),
-            faces_c={n: at(v) for n, v in faces.items()},
-            sensors_c={s: at(samples[:, row]) for s, row in sampler.sensor_rows.items()},
-            core_equivalent_age_h=at(np.array(self.core_te)),
-            surface_equivalent_age_h=at(surface_te),
-            core_degree_of_hydration=at(np.array(self.core_alpha)),
-            mean_c=at(np.array(self.mean)),
-            sensors_equivalent_age_h={
-                s: at(sample_te[:, row]) for s, row in sampler.sensor_rows.items()
-            },
-            core_nurse_saul_ch=at(core_ns),
-            surface_nurse_saul_ch=at(surface_ns),
-            summary=summary,
-            energy=energy,
-            steps=time.size - 1,
-            cells=self.solver.network.size,
-            every_step={
-                "time_h": time,
-                "core_c": core,
-                "surface_c": surface,
-                "differential_c": differential,
-            },
-        )
-
-
-def _dense_output(
-    time_h: NDArray[np.float64], restarts_h: list[float], report_h: NDArray[np.float64]
-):
-    """Interpolator from values at every step to values at the reported times.
-
-    A cubic interpolating spline (not-a-knot; de Boor 1978) through the step values of each
-    stretch between removals at faces, where the solution has a kink; stretches of fewer than
-    four steps use the highest order their points allow. Reported times that are step times get
-    the step values exactly.
-    """
-    restarts = np.asarray(restarts_h, dtype=float)
-    edges = [0, *np.searchsorted(time_h, restarts - 1e-9).tolist(), time_h.size - 1]
-    piece_of_report = np.searchsorted(restarts, report_h - 1e-9)
-    pieces = [
-        (lo, hi, np.flatnonzero(piece_of_report == i))
-        for i, (lo, hi) in enumerate(zip(edges[:-1], edges[1:], strict=True))
-    ]
-
-    def at(values: NDArray[np.float64]) -> NDArray[np.float64]:
-        out = np.empty(report_h.shape + values.shape[1:])
-        for lo, hi, rows in pieces:
-            x = time_h[lo : hi + 1]
-            spline = make_interp_spline(x, values[lo : hi + 1], k=min(3, x.size - 1), axis=0)
-            out[rows] = spline(np.clip(report_h[rows], x[0], x[-1]))
-        return out
-
-    return at
-
-
-def _output_times(duration_h: float, interval_h: float) -> NDArray[np.float64]:
-    n = int(math.floor(duration_h / interval_h + 1e-9))
-    times = interval_h * np.arange(n + 1)
-    if times[-1] < duration_h - 1e-9:
-        times = np.append(times, duration_h)
-    return times
 
 
 def forecast(scenario: Scenario, deadline: float | None = None) -> Forecast:
     """Forecast a scenario (convenience wrapper around :class:`ThermalSolver`); ``deadline`` as
     for :meth:`ThermalSolver.run`."""
     return ThermalSolver(scenario).run(deadline)
+
+
+def forecast_batch(
+    scenario: Scenario, variations: Variations, deadline: float | None = None
+) -> BatchForecast:
+    """Forecast the variants of a slab scenario together (see :meth:`ThermalSolver.run_batch`)."""
+    return ThermalSolver(scenario, variations).run_batch(deadline)

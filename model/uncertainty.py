@@ -6,14 +6,13 @@ sample is a seeded Latin hypercube (McKay, Beckman & Conover 1979, Technometrics
 through the normal quantile function, so a run is repeatable.
 """
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import NDArray
 from scipy.stats import norm, qmc
 
-from model.ambient import Ambient
-from model.scenario import Scenario
+from model.scenario import Scenario, Variations
 
 MIN_RELATIVE_FACTOR = 0.2
 """Sampled Hu and tau are kept above this fraction of their nominal values [-]."""
@@ -37,48 +36,32 @@ class Spreads:
     tau_rel_sd: float = 0.10
 
 
-def shifted_air(ambient: Ambient, delta_c: float) -> Ambient:
-    """The same weather with every air temperature raised by ``delta_c`` [C]."""
-    if ambient.daily_min_c is not None and ambient.daily_max_c is not None:
-        return replace(
-            ambient,
-            daily_min_c=ambient.daily_min_c + delta_c,
-            daily_max_c=ambient.daily_max_c + delta_c,
-        )
-    if isinstance(ambient.air_c, tuple):
-        return replace(ambient, air_c=tuple(t + delta_c for t in ambient.air_c))
-    return replace(ambient, air_c=ambient.air_c + delta_c)
-
-
 def standard_normal_sample(samples: int, dimensions: int, seed: int) -> NDArray[np.float64]:
     """A seeded Latin hypercube of standard normal deviates, shape (samples, dimensions)."""
     unit = qmc.LatinHypercube(d=dimensions, seed=seed).random(samples)
     return norm.ppf(unit)
 
 
+def sample_variations(spreads: Spreads, samples: int, seed: int) -> Variations:
+    """The uncertain inputs drawn from their distributions, one variant per sample."""
+    z = standard_normal_sample(samples, 4, seed)
+    return Variations(
+        placement_shift_c=z[:, 0] * spreads.placement_sd_c,
+        air_shift_c=z[:, 1] * spreads.air_sd_c,
+        total_heat_factor=np.maximum(
+            MIN_RELATIVE_FACTOR, 1.0 + z[:, 2] * spreads.total_heat_rel_sd
+        ),
+        tau_factor=np.maximum(MIN_RELATIVE_FACTOR, 1.0 + z[:, 3] * spreads.tau_rel_sd),
+    )
+
+
 def sample_scenarios(
     scenario: Scenario, spreads: Spreads, samples: int, seed: int
 ) -> list[Scenario]:
-    """Scenarios with the uncertain inputs drawn from their distributions."""
-    z = standard_normal_sample(samples, 4, seed)
-    hyd = scenario.concrete.hydration
-    out = []
-    for zp, za, zh, zt in z:
-        hydration = replace(
-            hyd,
-            total_heat_j_kg=hyd.total_heat_j_kg
-            * max(MIN_RELATIVE_FACTOR, 1.0 + zh * spreads.total_heat_rel_sd),
-            tau_h=hyd.tau_h * max(MIN_RELATIVE_FACTOR, 1.0 + zt * spreads.tau_rel_sd),
-        )
-        out.append(
-            replace(
-                scenario,
-                placement_c=scenario.placement_c + zp * spreads.placement_sd_c,
-                ambient=shifted_air(scenario.ambient, za * spreads.air_sd_c),
-                concrete=replace(scenario.concrete, hydration=hydration),
-            )
-        )
-    return out
+    """Scenarios with the uncertain inputs drawn from their distributions (for shapes that are
+    not stepped as one batch)."""
+    variations = sample_variations(spreads, samples, seed)
+    return [variations.scenario(scenario, i) for i in range(samples)]
 
 
 def percentiles(values: NDArray[np.float64], levels: tuple[float, ...] = (10, 50, 90)) -> dict:

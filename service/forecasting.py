@@ -13,8 +13,8 @@ import numpy as np
 from model.grid import cell_count
 from model.results import Summary
 from model.scenario import Scenario
-from model.solver import ConvergenceError, ThermalSolver, forecast
-from model.uncertainty import Spreads, percentiles, sample_scenarios
+from model.solver import ConvergenceError, ThermalSolver, forecast, forecast_batch
+from model.uncertainty import Spreads, percentiles, sample_scenarios, sample_variations
 from service.checks import cross_field_errors
 from service.convert import forecast_json, scenario_from
 from service.errors import InvalidScenarioError
@@ -32,9 +32,9 @@ HYDRATION_STEPS = 250
 
 
 def estimated_steps(scenario: Scenario) -> int:
-    """Rough number of time steps a forecast will take (for the compute budget); steps land on
-    every reporting time, so a reporting interval shorter than the largest step sets them."""
-    step_h = min(scenario.settings.max_step_h, scenario.output_interval_h)
+    """Rough number of time steps a forecast will take (for the compute budget): about one an
+    hour under daily air cycles (fewer in steady air), plus those of the hydration peak."""
+    step_h = min(scenario.settings.max_step_h, 1.0)
     return math.ceil(scenario.duration_h / step_h) + HYDRATION_STEPS
 
 
@@ -95,12 +95,21 @@ def _summary_of(scenario: Scenario, deadline: float | None) -> Summary:
 def uncertainty_band(
     scenario: Scenario, spreads: Spreads, samples: int, seed: int, deadline: float | None = None
 ) -> dict:
-    """P10/P50/P90 of peak and maximum differential over a Latin hypercube of forecasts."""
-    summaries = map_in_processes(
-        partial(_summary_of, deadline=deadline), sample_scenarios(scenario, spreads, samples, seed)
-    )
-    peaks = np.array([s.peak_temperature_c for s in summaries])
-    diffs = np.array([s.max_differential_c for s in summaries])
+    """P10/P50/P90 of peak and maximum differential over a Latin hypercube of forecasts.
+
+    Slabs step all samples together as one batch; sections and blocks run one forecast per
+    sample in parallel processes.
+    """
+    if scenario.element.shape == "slab":
+        batch = forecast_batch(scenario, sample_variations(spreads, samples, seed), deadline)
+        peaks, diffs = batch.peak_temperature_c, batch.max_differential_c
+    else:
+        summaries = map_in_processes(
+            partial(_summary_of, deadline=deadline),
+            sample_scenarios(scenario, spreads, samples, seed),
+        )
+        peaks = np.array([s.peak_temperature_c for s in summaries])
+        diffs = np.array([s.max_differential_c for s in summaries])
     return {
         "samples": samples,
         "seed": seed,
