@@ -9,13 +9,16 @@ is L-stable and so free of the ringing Crank-Nicolson shows after a sudden start
 removal; its first step, and the first after a sudden change at a face, is backward Euler.
 Each step solves the coupled temperature / equivalent-age equations by a Newton (chord)
 iteration whose matrix, the capacity and conduction matrix plus the derivative of the Arrhenius
-heat source, is factorised once per step and reused across iterations. The hydration heat of a
+heat source, is factorised once and reused across iterations; on 2D and 3D grids it is also
+kept for later steps of about the same size until the iteration slows (slabs refactorise every
+step: a tridiagonal factorisation costs less than one more iteration). The hydration heat of a
 step is ``Hu Cc (alpha_{n+1} - alpha_hist)`` with alpha taken from the equivalent age, so the
 heat released over the forecast is exactly ``Hu Cc`` times the change in degree of hydration.
 Properties that depend on hydration are evaluated at the state extrapolated to the end of the
-step, which keeps second-order accuracy. Step sizes adapt to the change of degree of hydration
-and of temperature per step, so the hydration peak is resolved, and land on every insulation or
-form removal; reported times between steps are interpolated by a cubic spline through the step
+step, which keeps second-order accuracy. Step sizes follow an estimate of the local error of
+each step (the gap to a quadratic extrapolation of the last three steps), capped by the change
+of degree of hydration and of temperature per step, and land on every insulation or form
+removal; reported times between steps are interpolated by a cubic spline through the step
 values of each stretch between removals (de Boor 1978, "A Practical Guide to Splines"), so the
 reporting interval does not force steps.
 
@@ -24,6 +27,13 @@ References
 Hairer, E. and Wanner, G. (1996), "Solving Ordinary Differential Equations II", 2nd ed.,
 section III.5 (variable-step BDF) and IV.3 (L-stability).
 Schindler, A. K. and Folliard, K. J. (2005), ACI Materials Journal 102(1), 24-33.
+
+Batches
+-------
+Variants of one slab scenario (placement, air, Hu and tau shifted or scaled; see
+:class:`model.scenario.Variations`) are stepped as one network of copies joined by links of zero
+area (:func:`model.assembly.replicate`): one step sequence, fine enough for every variant, and
+one tridiagonal solve across all of them per iteration.
 """
 
 from __future__ import annotations
