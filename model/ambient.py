@@ -108,4 +108,6 @@ class Ambient:
 def _constant_or_hourly(time_h: ArrayLike, value: float | tuple[float, ...]) -> NDArray:
     if isinstance(value, tuple):
         return hourly_series(time_h, value)
+    if isinstance(time_h, float | int):
+        return np.float64(value)  # type: ignore[return-value]
     return np.full(np.shape(time_h), float(value))

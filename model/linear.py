@@ -6,6 +6,8 @@ symmetric and, for the step sizes the solver takes, positive definite, so conjug
 apply (Saad, "Iterative Methods for Sparse Linear Systems", 2nd ed., 2003, algorithm 9.1).
 """
 
+from __future__ import annotations
+
 from collections.abc import Callable
 
 import numpy as np

@@ -1,6 +1,8 @@
 """Recording a march: the diagnostics of every accepted step, and the reported forecast built
 from them (summaries over every step, series interpolated to the reporting times)."""
 
+from __future__ import annotations
+
 import math
 from typing import TYPE_CHECKING
 
@@ -21,7 +23,7 @@ DENSE_SAMPLES = 200_000
 class Recorder:
     """Collects the diagnostics of every accepted step and builds the Forecast."""
 
-    def __init__(self, solver: "ThermalSolver") -> None:
+    def __init__(self, solver: ThermalSolver) -> None:
         self.solver = solver
         self.concrete_cells = np.flatnonzero(solver.network.is_concrete)
         volumes = solver.network.volume_m3[self.concrete_cells]
@@ -38,7 +40,7 @@ class Recorder:
         self.core_alpha: list[float] = []
         self.sample_te: list[NDArray[np.float64]] = []
 
-    def add(self, state: "State", loss_w: float) -> None:
+    def add(self, state: State, loss_w: float) -> None:
         t_conc = state.temperature_c[self.concrete_cells]
         hottest = self.concrete_cells[int(np.argmax(t_conc))]
         self.time_h.append(state.time_h)
@@ -85,26 +87,47 @@ class Recorder:
         core_ns = nurse_saul_factor_ch(time, core, sc.nurse_saul_datum_c)
         surface_ns = nurse_saul_factor_ch(time, surface, sc.nurse_saul_datum_c)
         report = output_times(sc.duration_h, sc.output_interval_h)
-        at = dense_output(time, restarts_h, report)
+        series = {
+            "core": core,
+            "surface": surface,
+            "differential": differential,
+            "coolest": coolest,
+            "spread": spread,
+            "core_te": np.array(self.core_te),
+            "surface_te": surface_te,
+            "core_alpha": np.array(self.core_alpha),
+            "mean": np.array(self.mean),
+            "core_ns": core_ns,
+            "surface_ns": surface_ns,
+            **{f"face {n}": v for n, v in faces.items()},
+            **{f"sensor {s}": samples[:, row] for s, row in sampler.sensor_rows.items()},
+            **{f"sensor te {s}": sample_te[:, row] for s, row in sampler.sensor_rows.items()},
+        }
+        # One spline through all the series at once (columns), then split by name.
+        reported = dict(
+            zip(
+                series,
+                dense_output(time, restarts_h, report)(np.column_stack(list(series.values()))).T,
+                strict=True,
+            )
+        )
         return Forecast(
             time_h=report,
-            core_c=at(core),
-            surface_c=at(surface),
-            differential_c=at(differential),
-            coolest_c=at(coolest),
-            spread_c=at(spread),
+            core_c=reported["core"],
+            surface_c=reported["surface"],
+            differential_c=reported["differential"],
+            coolest_c=reported["coolest"],
+            spread_c=reported["spread"],
             air_c=sc.ambient.air_temperature_c(report),
-            faces_c={n: at(v) for n, v in faces.items()},
-            sensors_c={s: at(samples[:, row]) for s, row in sampler.sensor_rows.items()},
-            core_equivalent_age_h=at(np.array(self.core_te)),
-            surface_equivalent_age_h=at(surface_te),
-            core_degree_of_hydration=at(np.array(self.core_alpha)),
-            mean_c=at(np.array(self.mean)),
-            sensors_equivalent_age_h={
-                s: at(sample_te[:, row]) for s, row in sampler.sensor_rows.items()
-            },
-            core_nurse_saul_ch=at(core_ns),
-            surface_nurse_saul_ch=at(surface_ns),
+            faces_c={n: reported[f"face {n}"] for n in faces},
+            sensors_c={s: reported[f"sensor {s}"] for s in sampler.sensor_rows},
+            core_equivalent_age_h=reported["core_te"],
+            surface_equivalent_age_h=reported["surface_te"],
+            core_degree_of_hydration=reported["core_alpha"],
+            mean_c=reported["mean"],
+            sensors_equivalent_age_h={s: reported[f"sensor te {s}"] for s in sampler.sensor_rows},
+            core_nurse_saul_ch=reported["core_ns"],
+            surface_nurse_saul_ch=reported["surface_ns"],
             summary=summary,
             energy=energy,
             steps=time.size - 1,
@@ -160,7 +183,7 @@ class BatchRecorder:
     """Collects, at every accepted step, the hottest, near-surface and sensor temperatures of
     each variant of a batch (see :meth:`model.solver.ThermalSolver.run_batch`)."""
 
-    def __init__(self, solver: "ThermalSolver") -> None:
+    def __init__(self, solver: ThermalSolver) -> None:
         self.solver = solver
         self.copies = solver.copies
         self.cells = solver.network.size // solver.copies
@@ -172,7 +195,7 @@ class BatchRecorder:
         self.core: list[NDArray[np.float64]] = []
         self.samples: list[NDArray[np.float64]] = []
 
-    def add(self, state: "State", loss_w: float) -> None:
+    def add(self, state: State, loss_w: float) -> None:
         temperature = state.temperature_c.reshape(self.copies, self.cells)
         self.time_h.append(state.time_h)
         self.loss_w.append(loss_w)

@@ -83,12 +83,11 @@ MAX_NEWTON_ITERATIONS = 12
 STALE_ITERATIONS = 4
 """Newton iterations allowed on a step matrix kept from an earlier step before it is factorised
 afresh."""
-STALE_MISMATCH = 0.1
-"""A factorised step matrix is kept for later steps whose effective step (``gamma``) differs from
-its own by at most this fraction; the chord iteration then still contracts quickly."""
-STEP_HOLD = (0.9, 1.25)
-"""A step stays the same size while the controller's factor lies in this range, so its
-factorised matrix can be reused."""
+STEP_LADDER = math.sqrt(2.0)
+"""On 2D and 3D grids steps take sizes ``first_step_h * STEP_LADDER**k`` only, so that few
+distinct step matrices occur and their factorisations can be kept and reused."""
+KEPT_FACTORISATIONS = 8
+"""Factorised step matrices kept for reuse (one per effective step size, the oldest dropped)."""
 MAX_STEP_GROWTH = 1.5
 """Largest ratio of a step to the previous one (BDF2 is zero-stable below 1 + sqrt(2))."""
 REJECT_RATIO = 2.0
@@ -162,8 +161,9 @@ class ThermalSolver:
             self._fixed = (k, capacity, links, conduction_diagonal_w_k(self.network, links, {}))
         """Conductivity, heat capacity, link conductances and the links' part of the
         conduction diagonal, when they do not change with hydration."""
-        self._factor: tuple[float, Solve] | None = None
-        """The last factorised step matrix and its ``gamma_s``, reused while the step holds."""
+        self._last_conduction: tuple[tuple, tuple] | None = None
+        self._factors: dict[float, Solve] = {}
+        """Factorised step matrices by effective step ``gamma_s``, reused by later steps."""
 
     # -- material and boundary laws -------------------------------------------------------
     def _face_laws(self) -> dict[str, Face | None]:
@@ -238,7 +238,28 @@ class ThermalSolver:
     def _conduction(
         self, time_h: float, conductivity: NDArray[np.float64]
     ) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], dict]:
-        """Link conductances and diagonal of K [W/K], boundary load g [W], boundary terms."""
+        """Link conductances and diagonal of K [W/K], boundary load g [W], boundary terms.
+
+        With fixed properties these change only with the weather and the face layers, so the
+        last result is reused while those stay the same (steady air, between removals)."""
+        if self._fixed is not None:
+            amb = self.scenario.ambient
+            key = (
+                float(amb.air_temperature_c(time_h)),
+                float(amb.wind_speed_m_s(time_h)),
+                float(amb.irradiance_w_m2(time_h)),
+                *(f.resistance_m2k_w(time_h) for f in self._faces.values() if f is not None),
+            )
+            if self._last_conduction is not None and self._last_conduction[0] == key:
+                return self._last_conduction[1]
+            value = self._assemble_conduction(time_h, conductivity)
+            self._last_conduction = (key, value)
+            return value
+        return self._assemble_conduction(time_h, conductivity)
+
+    def _assemble_conduction(
+        self, time_h: float, conductivity: NDArray[np.float64]
+    ) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64], dict]:
         bounds = self._boundaries(time_h, conductivity)
         if self._fixed is not None:
             links, diag = self._fixed[2], self._fixed[3].copy()
@@ -257,7 +278,7 @@ class ThermalSolver:
         total = 0.0
         for label, (g, t_env) in bounds.items():
             cells = self.network.boundaries[label].cell
-            total += float(np.sum(g * (temperature_c[cells] - t_env)))
+            total += float(g @ (temperature_c[cells] - t_env))
         return total
 
     # -- time stepping ---------------------------------------------------------------------
@@ -322,15 +343,13 @@ class ThermalSolver:
         # The diagonal of the step matrix turns a residual [J] into a temperature error [C],
         # which decides convergence without another solve.
         diagonal = capacity + gamma_s * k_diag
+        key = round(math.log(gamma_s), 9)
         try:
-            fresh = (
-                self._factor is None
-                or self.pattern.tridiagonal  # factorising costs less than an extra iteration
-                or abs(gamma_s / self._factor[0] - 1.0) > STALE_MISMATCH
-            )
+            # A tridiagonal factorisation costs less than one more iteration: always fresh.
+            fresh = self.pattern.tridiagonal or key not in self._factors
             if fresh:
-                self._factor = (gamma_s, jacobian(temperature, te))
-            solve = self._factor[1]  # type: ignore[index]
+                self._keep(key, jacobian(temperature, te))
+            solve = self._factors[key]
             for iteration in range(2 * MAX_NEWTON_ITERATIONS):
                 residual = (
                     capacity * (temperature - t_hist)
@@ -344,14 +363,21 @@ class ThermalSolver:
                 if not np.isfinite(temperature).all():
                     return None
                 if iteration + 1 == (MAX_NEWTON_ITERATIONS if fresh else STALE_ITERATIONS):
-                    solve = jacobian(temperature, te)
-                    self._factor, fresh = (gamma_s, solve), True
+                    solve, fresh = jacobian(temperature, te), True
+                    self._keep(key, solve)
             else:
                 return None
         except LinearSolveError:
-            self._factor = None
+            self._factors.pop(key, None)
             return None
         return State(time_h, temperature, te, alpha), capacity, bounds
+
+    def _keep(self, key: float, solve: Solve) -> None:
+        """Keep a factorised step matrix for reuse, dropping the oldest beyond the limit."""
+        self._factors.pop(key, None)
+        self._factors[key] = solve
+        if len(self._factors) > KEPT_FACTORISATIONS:
+            del self._factors[next(iter(self._factors))]
 
     def _targets(self) -> list[float]:
         """Times the steps must land on: every removal at a face (after which the history
@@ -406,7 +432,10 @@ class ThermalSolver:
                     )
                 cap = min(desired, res.max_step_h, 2.0 * last_step if previous else math.inf)
                 remaining = target - state.time_h
-                step = remaining / math.ceil(remaining / cap - 1e-9)
+                # Spread the last two steps before a target evenly; otherwise keep the size.
+                step = (
+                    cap if remaining > 2.0 * cap else remaining / math.ceil(remaining / cap - 1e-9)
+                )
                 outcome = self._step(state, previous, step)
                 change = math.inf
                 if outcome is not None:
@@ -433,13 +462,15 @@ class ThermalSolver:
                     continue
                 new, capacity, bounds = outcome
                 loss = self._heat_loss_w(new.temperature_c, bounds)
-                generated += float(np.sum(self._heat_j * (new.alpha - state.alpha)))
-                stored += float(np.sum(capacity * (new.temperature_c - state.temperature_c)))
+                generated += float(self._heat_j @ (new.alpha - state.alpha))
+                stored += float(capacity @ (new.temperature_c - state.temperature_c))
                 lost += 0.5 * (record.loss_w[-1] + loss) * step * _SECONDS_PER_HOUR
                 record.add(new, loss)
                 older, previous, state, last_step = previous, state, new, step
-                factor = min(MAX_STEP_GROWTH, 0.9 / max(change, 1e-6))
-                desired = step if STEP_HOLD[0] <= factor < STEP_HOLD[1] else step * factor
+                desired = step * min(MAX_STEP_GROWTH, 0.9 / max(change, 1e-6))
+                if not self.pattern.tridiagonal:
+                    rung = math.floor(math.log(desired / res.first_step_h, STEP_LADDER) + 1e-9)
+                    desired = res.first_step_h * STEP_LADDER**rung
             older, previous, desired = None, None, res.first_step_h
         log.debug("forecast: %d cells, %d steps", self.network.size, len(record.time_h) - 1)
         return targets[:-1], EnergyBalance(generated, stored, lost)
