@@ -8,10 +8,16 @@ from typing import TYPE_CHECKING
 
 import numpy as np
 from numpy.typing import NDArray
-from scipy.interpolate import make_interp_spline
 
 from model.maturity import nurse_saul_factor_ch
-from model.results import BatchForecast, EnergyBalance, Forecast, Summary, time_of_max
+from model.results import (
+    BatchForecast,
+    EnergyBalance,
+    Forecast,
+    Summary,
+    dense_output,
+    time_of_max,
+)
 
 if TYPE_CHECKING:
     from model.solver import State, ThermalSolver
@@ -132,6 +138,7 @@ class Recorder:
             energy=energy,
             steps=time.size - 1,
             cells=self.solver.network.size,
+            restarts_h=tuple(restarts_h),
             every_step={
                 "time_h": time,
                 "core_c": core,
@@ -139,35 +146,6 @@ class Recorder:
                 "differential_c": differential,
             },
         )
-
-
-def dense_output(
-    time_h: NDArray[np.float64], restarts_h: list[float], report_h: NDArray[np.float64]
-):
-    """Interpolator from values at every step to values at the reported times.
-
-    A cubic interpolating spline (not-a-knot; de Boor 1978) through the step values of each
-    stretch between removals at faces, where the solution has a kink; stretches of fewer than
-    four steps use the highest order their points allow. Reported times that are step times get
-    the step values exactly.
-    """
-    restarts = np.asarray(restarts_h, dtype=float)
-    edges = [0, *np.searchsorted(time_h, restarts - 1e-9).tolist(), time_h.size - 1]
-    piece_of_report = np.searchsorted(restarts, report_h - 1e-9)
-    pieces = [
-        (lo, hi, np.flatnonzero(piece_of_report == i))
-        for i, (lo, hi) in enumerate(zip(edges[:-1], edges[1:], strict=True))
-    ]
-
-    def at(values: NDArray[np.float64]) -> NDArray[np.float64]:
-        out = np.empty(report_h.shape + values.shape[1:])
-        for lo, hi, rows in pieces:
-            x = time_h[lo : hi + 1]
-            spline = make_interp_spline(x, values[lo : hi + 1], k=min(3, x.size - 1), axis=0)
-            out[rows] = spline(np.clip(report_h[rows], x[0], x[-1]))
-        return out
-
-    return at
 
 
 def output_times(duration_h: float, interval_h: float) -> NDArray[np.float64]:

@@ -12,6 +12,10 @@ from dataclasses import dataclass
 
 import numpy as np
 from numpy.typing import NDArray
+from scipy.interpolate import make_interp_spline
+
+CROSSING_RESOLUTION_H = 0.01
+"""Resolution of the first time a limit is exceeded [h]."""
 
 
 @dataclass(frozen=True)
@@ -91,12 +95,27 @@ class Forecast:
     steps: int
     cells: int
     every_step: dict[str, NDArray[np.float64]]
+    restarts_h: tuple[float, ...] = ()
 
     def first_time_above_h(self, quantity: str, limit: float) -> float | None:
-        """First solver time at which ``quantity`` ("core_c", "surface_c" or "differential_c")
-        exceeds ``limit``, over every step [h]; None if it never does."""
-        over = np.flatnonzero(self.every_step[quantity] > limit)
-        return float(self.every_step["time_h"][over[0]]) if over.size else None
+        """First time ``quantity`` ("core_c", "surface_c" or "differential_c") exceeds
+        ``limit`` [h]; None if it never does at any solver step.
+
+        Found between the last step below the limit and the first above it, on the same
+        spline that gives the reported series (to 0.01 h), so it agrees with them."""
+        time, values = self.every_step["time_h"], self.every_step[quantity]
+        over = np.flatnonzero(values > limit)
+        if not over.size:
+            return None
+        if over[0] == 0:
+            return float(time[0])
+        fine = np.linspace(
+            time[over[0] - 1],
+            time[over[0]],
+            2 + int(np.ceil((time[over[0]] - time[over[0] - 1]) / CROSSING_RESOLUTION_H)),
+        )
+        above = np.flatnonzero(dense_output(time, list(self.restarts_h), fine)(values) > limit)
+        return float(fine[above[0]])
 
 
 @dataclass(frozen=True)
@@ -118,6 +137,35 @@ class BatchForecast:
     max_differential_time_h: NDArray[np.float64]
     steps: int
     cells: int
+
+
+def dense_output(
+    time_h: NDArray[np.float64], restarts_h: list[float], report_h: NDArray[np.float64]
+):
+    """Interpolator from values at every step to values at the reported times.
+
+    A cubic interpolating spline (not-a-knot; de Boor 1978) through the step values of each
+    stretch between removals at faces, where the solution has a kink; stretches of fewer than
+    four steps use the highest order their points allow. Reported times that are step times get
+    the step values exactly.
+    """
+    restarts = np.asarray(restarts_h, dtype=float)
+    edges = [0, *np.searchsorted(time_h, restarts - 1e-9).tolist(), time_h.size - 1]
+    piece_of_report = np.searchsorted(restarts, report_h - 1e-9)
+    pieces = [
+        (lo, hi, np.flatnonzero(piece_of_report == i))
+        for i, (lo, hi) in enumerate(zip(edges[:-1], edges[1:], strict=True))
+    ]
+
+    def at(values: NDArray[np.float64]) -> NDArray[np.float64]:
+        out = np.empty(report_h.shape + values.shape[1:])
+        for lo, hi, rows in pieces:
+            x = time_h[lo : hi + 1]
+            spline = make_interp_spline(x, values[lo : hi + 1], k=min(3, x.size - 1), axis=0)
+            out[rows] = spline(np.clip(report_h[rows], x[0], x[-1]))
+        return out
+
+    return at
 
 
 def time_of_max(time_h: NDArray[np.float64], values: NDArray[np.float64]) -> tuple[float, float]:

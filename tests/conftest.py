@@ -1,10 +1,17 @@
 """Shared fixtures: the Flask app, its test client and the DESIGN.md contract scenario."""
 
-import copy
+import os
 
-import pytest
+# One BLAS thread, as in the gunicorn workers (deploy/gunicorn.conf.py): the solver's vector
+# operations are small, and BLAS threads only contend on a 2-core machine. Set before numpy.
+for _name in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
+    os.environ.setdefault(_name, "1")
 
-from service.app import create_app
+import copy  # noqa: E402
+
+import pytest  # noqa: E402
+
+from service.app import create_app  # noqa: E402
 
 CONTRACT_SCENARIO = {
     "element": {"shape": "slab", "thickness_m": 2.0},
