@@ -86,6 +86,12 @@ afresh."""
 STEP_LADDER = math.sqrt(2.0)
 """On 2D and 3D grids steps take sizes ``first_step_h * STEP_LADDER**k`` only, so that few
 distinct step matrices occur and their factorisations can be kept and reused."""
+TEMPERATURE_ERROR_FACTOR = 4.0
+"""Temperatures may carry this multiple of the error tolerance allowed on the heat released:
+an error in the heat feeds back through the Arrhenius rate and grows while the concrete heats
+up, whereas an error from the weather at a face is damped (measured: the adiabatic slab needs the
+tight heat tolerance; a footing under daily air cycles keeps its accuracy with the looser one
+and takes a third fewer steps)."""
 KEPT_FACTORISATIONS = 8
 """Factorised step matrices kept for reuse (one per effective step size, the oldest dropped)."""
 MAX_STEP_GROWTH = 1.5
@@ -490,9 +496,10 @@ def _error_ratio(
     The estimate is ``C3 / (1 + C3)`` times the gap between the new values and their quadratic
     extrapolation from the three previous steps, ``C3 = 2/9`` being the error constant of BDF2
     (Hairer & Wanner 1996, section III.5; the constant-step value is used for variable steps, as
-    is usual). Both temperatures [C] and degrees of hydration are checked, the latter as the
-    temperature rise their error would release without losses (``heat_rise_c`` per unit), in
-    the ``cells`` reported on (the concrete).
+    is usual). Both temperatures [C] (to ``TEMPERATURE_ERROR_FACTOR`` times the tolerance) and
+    degrees of hydration are checked, the latter as the temperature rise their error would
+    release without losses (``heat_rise_c`` per unit), in the ``cells`` reported on (the
+    concrete).
     """
     if previous is None or older is None:
         return 0.0
@@ -503,7 +510,7 @@ def _error_ratio(
     predicted = w0 * state.temperature_c + w1 * previous.temperature_c + w2 * older.temperature_c
     predicted_alpha = w0 * state.alpha + w1 * previous.alpha + w2 * older.alpha
     gap = max(
-        float(np.abs(new.temperature_c - predicted)[cells].max()),
+        float(np.abs(new.temperature_c - predicted)[cells].max()) / TEMPERATURE_ERROR_FACTOR,
         heat_rise_c * float(np.abs(new.alpha - predicted_alpha)[cells].max()),
     )
     return (2.0 / 11.0) * gap / tolerance_c

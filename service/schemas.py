@@ -273,7 +273,15 @@ class ResolutionIn(Strict):
         "Cell size growth per cell away from faces [-]", 1.2, ge=1.0, le=2.0, default=None
     )
     max_cell_m: float | None = F("Largest cell [m]", 0.1, ge=0.01, le=2.0, default=None)
-    max_step_h: float | None = F("Largest time step [h]", 1.0, ge=0.01, le=6.0, default=None)
+    max_step_h: float | None = F("Largest time step [h]", 6.0, ge=0.01, le=24.0, default=None)
+    error_tolerance_c: float | None = F(
+        "Target estimated local time-stepping error per step [C]; smaller is more accurate "
+        "and slower",
+        0.0005,
+        ge=1e-6,
+        le=1.0,
+        default=None,
+    )
 
 
 class LabCylinderIn(Strict):
