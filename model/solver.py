@@ -309,7 +309,7 @@ class ThermalSolver:
         if previous is None:
             ratio = 0.0
             t_hist, te_hist, a_hist = state.temperature_c, state.equivalent_age_h, state.alpha
-            t_pred, a_pred = state.temperature_c, state.alpha
+            t_pred = state.temperature_c
         else:
             ratio = step_h / (state.time_h - previous.time_h)
             c1, c2 = (1.0 + ratio) ** 2 / (1.0 + 2.0 * ratio), ratio**2 / (1.0 + 2.0 * ratio)
@@ -317,11 +317,18 @@ class ThermalSolver:
             te_hist = c1 * state.equivalent_age_h - c2 * previous.equivalent_age_h
             a_hist = c1 * state.alpha - c2 * previous.alpha
             t_pred = state.temperature_c + ratio * (state.temperature_c - previous.temperature_c)
-            a_pred = np.clip(state.alpha + ratio * (state.alpha - previous.alpha), 0.0, 1.0)
         gamma_h = step_h * (1.0 + ratio) / (1.0 + 2.0 * ratio)
         gamma_s = gamma_h * _SECONDS_PER_HOUR
         time_h = state.time_h + step_h
-        conductivity, capacity = self._properties(a_pred, t_pred)
+        if self._fixed is not None:
+            conductivity, capacity = self._fixed[0], self._fixed[1]
+        else:
+            a_pred = state.alpha
+            if previous is not None:
+                a_pred = a_pred + ratio * (state.alpha - previous.alpha)
+            conductivity, capacity = self._properties(
+                np.minimum(np.maximum(a_pred, 0.0), 1.0), t_pred
+            )
         links, k_diag, load, bounds = self._conduction(time_h, conductivity)
         conc = self._is_concrete
 
@@ -344,7 +351,7 @@ class ThermalSolver:
                 return factorise_tridiagonal(diagonal, self.pattern.off_diagonal(-gamma_s * links))
             return factorise(self.pattern.matrix(-gamma_s * links, diagonal))
 
-        temperature = t_pred.copy()
+        temperature = t_pred  # never changed in place
         te, alpha = hydration(temperature)
         # The diagonal of the step matrix turns a residual [J] into a temperature error [C],
         # which decides convergence without another solve.
