@@ -3,7 +3,8 @@
 The uncertain inputs (the total heat Hu and time parameter tau of hydration, the overall
 conductance of the top face and, optionally, the placement temperature) are fitted to the
 readings so far by bounded nonlinear least squares (``scipy.optimize.least_squares``, trust
-region reflective), each residual a whole forecast at the sensor positions; the standard errors
+region reflective), each residual a whole forecast at the sensor positions (for slabs, the
+Jacobian's forward differences are forecast together as one batch); the standard errors
 come from the Jacobian at the solution, ``sqrt(diag((J^T J)^-1) * SSR / (n - p))`` (the usual
 linearised covariance, e.g. Bates & Watts, "Nonlinear Regression Analysis and Its
 Applications", 1988, section 2.3). Measured air temperatures replace the planned ones where
@@ -17,11 +18,13 @@ from numpy.typing import NDArray
 from scipy.optimize import least_squares
 
 from model.ambient import Ambient
-from model.scenario import Scenario
-from model.solver import forecast
+from model.scenario import Scenario, Variations
+from model.solver import forecast, forecast_batch
 
 AIR_SENSOR = "air"
 """Sensor id of measured air temperatures."""
+DIFF_STEP = 1e-3
+"""Relative step of the finite differences of the Jacobian [-]."""
 
 
 @dataclass(frozen=True)
@@ -68,22 +71,7 @@ class Calibration:
 
 def with_parameters(scenario: Scenario, values: dict[str, float]) -> Scenario:
     """The scenario with calibration parameters applied (missing ones keep their neutral value)."""
-    hyd = scenario.concrete.hydration
-    hydration = replace(
-        hyd,
-        total_heat_j_kg=hyd.total_heat_j_kg * values.get("total_heat_factor", 1.0),
-        tau_h=hyd.tau_h * values.get("tau_factor", 1.0),
-    )
-    top = scenario.face("top")
-    top = replace(
-        top, conductance_factor=top.conductance_factor * values.get("top_conductance_factor", 1.0)
-    )
-    return replace(
-        scenario,
-        concrete=replace(scenario.concrete, hydration=hydration),
-        faces={**scenario.faces, "top": top},
-        placement_c=scenario.placement_c + values.get("placement_offset_c", 0.0),
-    )
+    return variations_of([values]).scenario(scenario, 0)
 
 
 def with_measured_air(
@@ -127,6 +115,44 @@ def predicted_c(
     return out
 
 
+def predicted_batch_c(
+    scenario: Scenario,
+    variations: Variations,
+    hours: NDArray[np.float64],
+    sensors: NDArray[np.str_],
+    deadline: float | None = None,
+) -> NDArray[np.float64]:
+    """Forecast temperatures at the reading times and sensors for every variant of a slab,
+    stepped together as one batch [C], shape (variants, readings)."""
+    horizon = float(np.ceil(hours.max() + 1e-9))
+    batch = forecast_batch(
+        replace(scenario, duration_h=max(horizon, 1.0), output_interval_h=1.0),
+        variations,
+        deadline,
+    )
+    out = np.empty((variations.size, hours.size))
+    for sensor in np.unique(sensors):
+        mask = sensors == sensor
+        for row, series in enumerate(batch.sensors_c[str(sensor)]):
+            out[row, mask] = np.interp(hours[mask], batch.time_h, series)
+    return out
+
+
+def variations_of(values: list[dict[str, float]]) -> Variations:
+    """Calibration parameter sets as batch variants (missing ones keep their neutral value)."""
+
+    def column(name: str, neutral: float) -> NDArray[np.float64]:
+        return np.array([v.get(name, neutral) for v in values])
+
+    return Variations(
+        placement_shift_c=column("placement_offset_c", 0.0),
+        air_shift_c=np.zeros(len(values)),
+        total_heat_factor=column("total_heat_factor", 1.0),
+        tau_factor=column("tau_factor", 1.0),
+        top_conductance_factor=column("top_conductance_factor", 1.0),
+    )
+
+
 def calibrate(
     scenario: Scenario,
     hours: NDArray[np.float64],
@@ -160,12 +186,26 @@ def calibrate(
         values = {p.name: v for p, v in zip(fitted, x, strict=True)}
         return predicted_c(with_parameters(base, values), hours, sensors, deadline) - measured
 
+    def batch_jacobian(x: NDArray[np.float64]) -> NDArray[np.float64]:
+        """Forward differences from one batch: the point and each parameter nudged by
+        ``DIFF_STEP`` (relative, at least that much absolute; backwards at an upper bound),
+        all on the same time steps, so the differences carry no step-to-step noise."""
+        nudges = DIFF_STEP * np.maximum(1.0, np.abs(x))
+        nudges = np.where(x + nudges > [p.high for p in fitted], -nudges, nudges)
+        points = [x] + [
+            x + nudge * unit for nudge, unit in zip(nudges, np.eye(x.size), strict=True)
+        ]
+        values = [{p.name: v for p, v in zip(fitted, point, strict=True)} for point in points]
+        predicted = predicted_batch_c(base, variations_of(values), hours, sensors, deadline)
+        return ((predicted[1:] - predicted[0]) / nudges[:, None]).T
+
     solution = least_squares(
         residuals,
         [p.start for p in fitted],
+        jac=batch_jacobian if scenario.element.shape == "slab" else "2-point",
         bounds=([p.low for p in fitted], [p.high for p in fitted]),
         x_scale=[p.scale for p in fitted],
-        diff_step=1e-3,
+        diff_step=DIFF_STEP,
         xtol=1e-6,
         ftol=1e-8,
         max_nfev=80,

@@ -264,12 +264,14 @@ class Variations:
     air_shift_c : added to every air temperature [C]
     total_heat_factor : multiplies the total heat of hydration Hu [-]
     tau_factor : multiplies the hydration time parameter tau [-]
+    top_conductance_factor : multiplies the top face's overall conductance [-]; None: ones
     """
 
     placement_shift_c: NDArray[np.float64]
     air_shift_c: NDArray[np.float64]
     total_heat_factor: NDArray[np.float64]
     tau_factor: NDArray[np.float64]
+    top_conductance_factor: NDArray[np.float64] | None = None
 
     @property
     def size(self) -> int:
@@ -284,12 +286,21 @@ class Variations:
             total_heat_j_kg=hyd.total_heat_j_kg * float(self.total_heat_factor[index]),
             tau_h=hyd.tau_h * float(self.tau_factor[index]),
         )
+        top = base.face("top")
+        top = replace(top, conductance_factor=top.conductance_factor * self.top_factors()[index])
         return replace(
             base,
             placement_c=base.placement_c + float(self.placement_shift_c[index]),
             ambient=base.ambient.shifted(float(self.air_shift_c[index])),
             concrete=replace(base.concrete, hydration=hydration),
+            faces={**base.faces, "top": top},
         )
+
+    def top_factors(self) -> NDArray[np.float64]:
+        """The top face's conductance factor of every variant [-]."""
+        if self.top_conductance_factor is None:
+            return np.ones(self.size)
+        return np.asarray(self.top_conductance_factor, dtype=float)
 
     @classmethod
     def none(cls, copies: int = 1) -> "Variations":

@@ -157,6 +157,7 @@ class ThermalSolver:
             0.0,
         )
         self._tau_h = hyd.tau_h * self.variations.tau_factor[copy_of_cell]
+        self._top_factor = self.variations.top_factors()
         self._placement_c = scenario.placement_c + self.variations.placement_shift_c[copy_of_cell]
         self._faces = self._face_laws()
         self._fixed: tuple[NDArray[np.float64], ...] | None = None
@@ -234,6 +235,8 @@ class ThermalSolver:
             u = face.conductance_factor * surface_conductance_w_m2k(
                 film, face.resistance_m2k_w(time_h)
             )
+            if label == "top":
+                u = u * self._top_factor[self._copy_of_face[label]]
             absorbed = face.solar_absorptivity * float(amb.irradiance_w_m2(time_h))
             out[label] = (
                 boundary_conductance_w_k(faces, conductivity, u),
