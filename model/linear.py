@@ -1,5 +1,6 @@
-"""Linear solvers for the implicit step: a sparse direct factorisation, or Jacobi-preconditioned
-conjugate gradients for large 2D/3D grids where fill-in makes factorising costly.
+"""Linear solvers for the implicit step: a tridiagonal LDL^T factorisation for slabs (and
+batches of slabs), a sparse direct factorisation for small 2D/3D grids, or Jacobi-preconditioned
+conjugate gradients for large ones where fill-in makes factorising costly.
 
 The step matrix (heat capacity plus conduction plus the derivative of the hydration source) is
 symmetric and, for the step sizes the solver takes, positive definite, so conjugate gradients

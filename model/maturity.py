@@ -52,10 +52,13 @@ def arrhenius_factor_slope(
     temperature_c: ArrayLike,
     activation_energy_j_mol: ArrayLike,
     reference_c: float = HYDRATION_REFERENCE_C,
+    factor: NDArray[np.float64] | None = None,
 ) -> NDArray[np.float64]:
-    """Derivative of :func:`arrhenius_factor` with respect to temperature [1/K]."""
+    """Derivative of :func:`arrhenius_factor` with respect to temperature [1/K]; ``factor``,
+    if given, is that function's value at the same temperatures (saves computing it again)."""
     t_k = np.asarray(temperature_c, dtype=float) + KELVIN_OFFSET
-    factor = arrhenius_factor(temperature_c, activation_energy_j_mol, reference_c)
+    if factor is None:
+        factor = arrhenius_factor(temperature_c, activation_energy_j_mol, reference_c)
     return factor * np.asarray(activation_energy_j_mol) / (GAS_CONSTANT_J_MOLK * t_k**2)
 
 

@@ -47,7 +47,9 @@ class Recorder:
         self.sample_te: list[NDArray[np.float64]] = []
 
     def add(self, state: State, loss_w: float) -> None:
-        t_conc = state.temperature_c[self.concrete_cells]
+        t_conc = state.temperature_c
+        if self.concrete_cells.size < t_conc.size:
+            t_conc = t_conc[self.concrete_cells]
         hottest = self.concrete_cells[int(np.argmax(t_conc))]
         self.time_h.append(state.time_h)
         self.loss_w.append(loss_w)

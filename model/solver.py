@@ -336,7 +336,8 @@ class ThermalSolver:
         conc = self._is_concrete
 
         def hydration(temperature: NDArray[np.float64]):
-            te = te_hist + gamma_h * arrhenius_factor(temperature, hyd.activation_energy_j_mol)
+            rate[0] = arrhenius_factor(temperature, hyd.activation_energy_j_mol)
+            te = te_hist + gamma_h * rate[0]
             alpha = degree_of_hydration(te, self._tau_h, hyd.beta, hyd.alpha_u)
             if self._has_ground:
                 return np.where(conc, te, 0.0), np.where(conc, alpha, 0.0)
@@ -347,13 +348,14 @@ class ThermalSolver:
                 self._heat_j
                 * gamma_h
                 * hydration_slope_per_h(te, self._tau_h, hyd.beta, hyd.alpha_u)
-                * arrhenius_factor_slope(temperature, hyd.activation_energy_j_mol)
+                * arrhenius_factor_slope(temperature, hyd.activation_energy_j_mol, factor=rate[0])
             )
             diagonal = capacity - source + gamma_s * k_diag
             if self.pattern.tridiagonal:
                 return factorise_tridiagonal(diagonal, self.pattern.off_diagonal(-gamma_s * links))
             return factorise(self.pattern.matrix(-gamma_s * links, diagonal))
 
+        rate = [np.empty(0)]  # the Arrhenius factor at the last temperatures hydration() saw
         temperature = t_pred  # never changed in place
         te, alpha = hydration(temperature)
         # The diagonal of the step matrix turns a residual [J] into a temperature error [C],
@@ -467,7 +469,7 @@ class ThermalSolver:
                             older,
                             res.error_tolerance_c,
                             heat_rise_c,
-                            self._is_concrete,
+                            self._is_concrete if self._has_ground else None,
                         )
                         ** (1 / 3),
                     )
@@ -499,7 +501,7 @@ def _error_ratio(
     older: State | None,
     tolerance_c: float,
     heat_rise_c: float,
-    cells: NDArray[np.bool_],
+    cells: NDArray[np.bool_] | None,
 ) -> float:
     """Estimated local error of a BDF2 step over its tolerance (0 without three past states).
 
@@ -509,7 +511,7 @@ def _error_ratio(
     is usual). Both temperatures [C] (to ``TEMPERATURE_ERROR_FACTOR`` times the tolerance) and
     degrees of hydration are checked, the latter as the temperature rise their error would
     release without losses (``heat_rise_c`` per unit), in the ``cells`` reported on (the
-    concrete).
+    concrete; None: all).
     """
     if previous is None or older is None:
         return 0.0
@@ -519,10 +521,10 @@ def _error_ratio(
     w2 = (t - t0) * (t - t1) / ((t2 - t0) * (t2 - t1))
     predicted = w0 * state.temperature_c + w1 * previous.temperature_c + w2 * older.temperature_c
     predicted_alpha = w0 * state.alpha + w1 * previous.alpha + w2 * older.alpha
-    gap = max(
-        float(np.abs(new.temperature_c - predicted)[cells].max()) / TEMPERATURE_ERROR_FACTOR,
-        heat_rise_c * float(np.abs(new.alpha - predicted_alpha)[cells].max()),
-    )
+    t_gap, a_gap = np.abs(new.temperature_c - predicted), np.abs(new.alpha - predicted_alpha)
+    if cells is not None:
+        t_gap, a_gap = t_gap[cells], a_gap[cells]
+    gap = max(float(t_gap.max()) / TEMPERATURE_ERROR_FACTOR, heat_rise_c * float(a_gap.max()))
     return (2.0 / 11.0) * gap / tolerance_c
 
 
