@@ -202,14 +202,14 @@ def case_1d() -> list[dict[str, Any]]:
         for rtol in (1e-3, 1e-4, 1e-5, 1e-6)
     ]
     tuned = fastest_within(settings, lambda c: reference_1d(*c), lambda r: error_c(r, truth), 0.1)
-    ref, t_ref, _ = timed(lambda: reference_1d(*tuned), 5)
+    ref, t_ref, _ = timed(lambda: reference_1d(*tuned), 15)
     ref_name = f"solve_ivp BDF method of lines, {tuned[0]} cells, rtol {tuned[1]:g}"
     coarse = fastest_within(
         COARSE_LADDER, lambda r: outcome_1d(forecast(mat_1d(r))), lambda r: error_c(r, truth), 0.1
     )
     rows = []
     for label, resolution in (("default settings", None), ("tuned to 0.1 C", coarse)):
-        result, seconds, mem = timed(lambda r=resolution: forecast(mat_1d(r)), 5)
+        result, seconds, mem = timed(lambda r=resolution: forecast(mat_1d(r)), 15)
         rows.append(
             {
                 "case": f"1D 2.5 m mat, 240 h, one forecast, {label} ({result.cells} cells, "
