@@ -348,7 +348,7 @@ def case_2d() -> list[dict[str, Any]]:
         return outcome_mol_2d(mol_section.footing_on_ground(*setting))
 
     rows = []
-    ours_default, t_default, mem = timed(lambda: forecast(footing_2d()), 3)
+    ours_default, t_default, mem = timed(lambda: forecast(footing_2d()), 5)
     default_error = error_c(outcome_2d(ours_default), truth)
     coarse = fastest_within(
         SECTION_LADDER,
@@ -360,12 +360,12 @@ def case_2d() -> list[dict[str, Any]]:
         ("default settings", None, max(default_error, 0.02)),
         ("tuned to 0.1 C", coarse, 0.1),
     ):
-        ours, seconds, mem = timed(lambda r=resolution: forecast(footing_2d(r)), 3)
+        ours, seconds, mem = timed(lambda r=resolution: forecast(footing_2d(r)), 5)
         ours_error = error_c(outcome_2d(ours), truth)
         setting = fastest_within(
             MOL_SECTION_SETTINGS, mol_run, lambda r: error_c(r, truth), max(within, ours_error)
         )
-        ref, t_ref, _ = timed(lambda c=setting: mol_run(c), 3)
+        ref, t_ref, _ = timed(lambda c=setting: mol_run(c), 5)
         rows.append(
             {
                 "case": f"2D 4 m x 3 m footing on ground, 336 h, {label} ({ours.cells} cells, "

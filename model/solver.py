@@ -169,6 +169,11 @@ class ThermalSolver:
         """Conductivity, heat capacity, link conductances and the links' part of the
         conduction diagonal, when they do not change with hydration."""
         self._last_conduction: tuple[tuple, tuple] | None = None
+        self._link_matrix = None
+        """With fixed properties on 2D/3D grids, the links' off-diagonal part of the conduction
+        matrix as a sparse matrix, built once (products with it beat scattering per step)."""
+        if self._fixed is not None and not self.pattern.tridiagonal:
+            self._link_matrix = self.pattern.matrix(-self._fixed[2], np.zeros(self.network.size))
         self._factors: dict[float, Solve] = {}
         """Factorised step matrices by effective step ``gamma_s``, reused by later steps."""
 
@@ -305,9 +310,10 @@ class ThermalSolver:
         return State(0.0, temperature, zeros.copy(), zeros.copy())
 
     def _step(
-        self, state: State, previous: State | None, step_h: float
+        self, state: State, previous: State | None, step_h: float, older: State | None = None
     ) -> tuple[State, NDArray[np.float64], dict] | None:
-        """One BDF2 step (backward Euler without history); None if Newton fails."""
+        """One BDF2 step (backward Euler without history); None if Newton fails. Newton starts
+        from the temperatures extrapolated through the last two states (three with ``older``)."""
         hyd = self.scenario.concrete.hydration
         if previous is None:
             ratio = 0.0
@@ -319,7 +325,17 @@ class ThermalSolver:
             t_hist = c1 * state.temperature_c - c2 * previous.temperature_c
             te_hist = c1 * state.equivalent_age_h - c2 * previous.equivalent_age_h
             a_hist = c1 * state.alpha - c2 * previous.alpha
-            t_pred = state.temperature_c + ratio * (state.temperature_c - previous.temperature_c)
+            if older is None:
+                t_pred = state.temperature_c + ratio * (
+                    state.temperature_c - previous.temperature_c
+                )
+            else:
+                w0, w1, w2 = _extrapolation_weights(state.time_h + step_h, state, previous, older)
+                t_pred = (
+                    w0 * state.temperature_c
+                    + w1 * previous.temperature_c
+                    + w2 * older.temperature_c
+                )
         gamma_h = step_h * (1.0 + ratio) / (1.0 + 2.0 * ratio)
         gamma_s = gamma_h * _SECONDS_PER_HOUR
         time_h = state.time_h + step_h
@@ -371,7 +387,7 @@ class ThermalSolver:
             for iteration in range(2 * MAX_NEWTON_ITERATIONS):
                 residual = (
                     capacity * (temperature - t_hist)
-                    + gamma_s * (self.pattern.product(-links, k_diag, temperature) - load)
+                    + gamma_s * (self._conduct(links, k_diag, temperature) - load)
                     - self._heat_j * (alpha - a_hist)
                 )
                 if np.abs(residual / diagonal).max() < NEWTON_TOLERANCE_C:
@@ -389,6 +405,14 @@ class ThermalSolver:
             self._factors.pop(key, None)
             return None
         return State(time_h, temperature, te, alpha), capacity, bounds
+
+    def _conduct(
+        self, links: NDArray[np.float64], k_diag: NDArray[np.float64], x: NDArray[np.float64]
+    ) -> NDArray[np.float64]:
+        """The conduction matrix times ``x``: ``K x`` [W] for temperatures ``x`` [C]."""
+        if self._link_matrix is not None:
+            return k_diag * x + self._link_matrix @ x
+        return self.pattern.product(-links, k_diag, x)
 
     def _keep(self, key: float, solve: Solve) -> None:
         """Keep a factorised step matrix for reuse, dropping the oldest beyond the limit."""
@@ -454,7 +478,7 @@ class ThermalSolver:
                 step = (
                     cap if remaining > 2.0 * cap else remaining / math.ceil(remaining / cap - 1e-9)
                 )
-                outcome = self._step(state, previous, step)
+                outcome = self._step(state, previous, step, older)
                 change = math.inf
                 if outcome is not None:
                     new = outcome[0]
@@ -494,6 +518,18 @@ class ThermalSolver:
         return targets[:-1], EnergyBalance(generated, stored, lost)
 
 
+def _extrapolation_weights(
+    time_h: float, state: State, previous: State, older: State
+) -> tuple[float, float, float]:
+    """Lagrange weights of the quadratic through the three states, evaluated at ``time_h``."""
+    t, t0, t1, t2 = time_h, state.time_h, previous.time_h, older.time_h
+    return (
+        (t - t1) * (t - t2) / ((t0 - t1) * (t0 - t2)),
+        (t - t0) * (t - t2) / ((t1 - t0) * (t1 - t2)),
+        (t - t0) * (t - t1) / ((t2 - t0) * (t2 - t1)),
+    )
+
+
 def _error_ratio(
     new: State,
     state: State,
@@ -515,10 +551,7 @@ def _error_ratio(
     """
     if previous is None or older is None:
         return 0.0
-    t, t0, t1, t2 = new.time_h, state.time_h, previous.time_h, older.time_h
-    w0 = (t - t1) * (t - t2) / ((t0 - t1) * (t0 - t2))
-    w1 = (t - t0) * (t - t2) / ((t1 - t0) * (t1 - t2))
-    w2 = (t - t0) * (t - t1) / ((t2 - t0) * (t2 - t1))
+    w0, w1, w2 = _extrapolation_weights(new.time_h, state, previous, older)
     predicted = w0 * state.temperature_c + w1 * previous.temperature_c + w2 * older.temperature_c
     predicted_alpha = w0 * state.alpha + w1 * previous.alpha + w2 * older.alpha
     t_gap, a_gap = np.abs(new.temperature_c - predicted), np.abs(new.alpha - predicted_alpha)
