@@ -218,7 +218,8 @@ class ThermalSolver:
     def _boundaries(
         self, time_h: float, conductivity: NDArray[np.float64]
     ) -> dict[str, tuple[NDArray[np.float64], NDArray[np.float64]]]:
-        """Per active boundary label: face conductances [W/K] and surrounding temperatures [C]."""
+        """Per active boundary label: face conductances [W/K] and surrounding temperatures [C]
+        (one per face in a batch, else one for all the label's faces)."""
         amb = self.scenario.ambient
         air = float(amb.air_temperature_c(time_h)) + self.variations.air_shift_c
         out: dict[str, tuple[NDArray[np.float64], NDArray[np.float64]]] = {}
@@ -227,10 +228,11 @@ class ThermalSolver:
             if face is None:
                 out[label] = (
                     boundary_conductance_w_k(faces, conductivity, math.inf),
-                    np.full(faces.cell.size, self.scenario.ground.deep_temperature_c),
+                    np.array([self.scenario.ground.deep_temperature_c]),
                 )  # type: ignore[union-attr]
                 continue
-            air_c = air[self._copy_of_face[label]]
+            # One variant: one air temperature for all faces (broadcast); a batch: per face.
+            air_c = air if self.copies == 1 else air[self._copy_of_face[label]]
             if face.film_coefficient_w_m2k is not None:
                 film = np.full(air_c.shape, face.film_coefficient_w_m2k)
             else:
