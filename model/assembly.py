@@ -158,18 +158,12 @@ def link_conductance_w_k(
     )
 
 
-def conduction_diagonal_w_k(
-    network: Network,
-    link_w_k: NDArray[np.float64],
-    boundary_conductance: dict[str, NDArray[np.float64]],
-) -> NDArray[np.float64]:
-    """Diagonal of the conduction matrix K [W/K]: the sum of each cell's link and boundary
-    conductances, so that the net heat gain of the cells is ``-K T + g``."""
+def link_diagonal_w_k(network: Network, link_w_k: NDArray[np.float64]) -> NDArray[np.float64]:
+    """The links' part of the diagonal of the conduction matrix K [W/K]: the sum of each
+    cell's link conductances (the solver adds the boundary conductances), so that the net heat
+    gain of the cells is ``-K T + g``."""
     n = network.size
-    diag = np.bincount(network.link_p, link_w_k, n) + np.bincount(network.link_q, link_w_k, n)
-    for label, conductance in boundary_conductance.items():
-        diag += np.bincount(network.boundaries[label].cell, conductance, n)
-    return diag
+    return np.bincount(network.link_p, link_w_k, n) + np.bincount(network.link_q, link_w_k, n)
 
 
 class SymmetricPattern:
@@ -186,10 +180,12 @@ class SymmetricPattern:
         self._indices, self._indptr = order.indices, order.indptr
         self._links, self._shape = links, (n, n)
         self._p, self._q = network.link_p, network.link_q
-        self.tridiagonal = bool(np.all(network.link_q == network.link_p + 1))
-        """Whether every link joins consecutive cells (slabs): tridiagonal solves apply."""
-        self._chain = bool(np.array_equal(network.link_p, np.arange(n - 1)))
-        """Whether, besides, every cell is linked to the next (one slab, not a batch)."""
+        self.tridiagonal = bool(
+            np.array_equal(network.link_p, np.arange(n - 1))
+            and np.array_equal(network.link_q, network.link_p + 1)
+        )
+        """Whether the links are exactly those of each cell to the next (slabs, and batches of
+        slabs): the link values are then the first off-diagonal and tridiagonal solves apply."""
 
     def product(
         self,
@@ -199,10 +195,9 @@ class SymmetricPattern:
     ) -> NDArray[np.float64]:
         """``matrix(link_values, diagonal) @ x`` without building the matrix."""
         if self.tridiagonal:
-            off = self.off_diagonal(link_values)
             y = diagonal * x
-            y[:-1] += off * x[1:]
-            y[1:] += off * x[:-1]
+            y[:-1] += link_values * x[1:]
+            y[1:] += link_values * x[:-1]
             return y
         n = self._shape[0]
         return (
@@ -210,15 +205,6 @@ class SymmetricPattern:
             + np.bincount(self._p, link_values * x[self._q], n)
             + np.bincount(self._q, link_values * x[self._p], n)
         )
-
-    def off_diagonal(self, link_values: NDArray[np.float64]) -> NDArray[np.float64]:
-        """The first off-diagonal, length n - 1, of a tridiagonal pattern (zero between cells
-        that are not linked, as between the copies of a batch)."""
-        if self._chain:
-            return link_values
-        off = np.zeros(self._shape[0] - 1)
-        off[self._p] = link_values
-        return off
 
     def matrix(
         self, link_values: NDArray[np.float64], diagonal: NDArray[np.float64]

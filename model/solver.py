@@ -55,8 +55,8 @@ from model.assembly import (
     SymmetricPattern,
     boundary_conductance_w_k,
     build_network,
-    conduction_diagonal_w_k,
     link_conductance_w_k,
+    link_diagonal_w_k,
     replicate,
 )
 from model.boundaries import (
@@ -165,7 +165,7 @@ class ThermalSolver:
             zeros = np.zeros(self.network.size)
             k, capacity = self._properties(zeros, zeros)
             links = link_conductance_w_k(self.network, k)
-            self._fixed = (k, capacity, links, conduction_diagonal_w_k(self.network, links, {}))
+            self._fixed = (k, capacity, links, link_diagonal_w_k(self.network, links))
         """Conductivity, heat capacity, link conductances and the links' part of the
         conduction diagonal, when they do not change with hydration."""
         self._last_conduction: tuple[tuple, tuple] | None = None
@@ -281,7 +281,7 @@ class ThermalSolver:
             links, diag = self._fixed[2], self._fixed[3].copy()
         else:
             links = link_conductance_w_k(self.network, conductivity)
-            diag = conduction_diagonal_w_k(self.network, links, {})
+            diag = link_diagonal_w_k(self.network, links)
         load = np.zeros(self.network.size)
         for label, (g, t_env) in bounds.items():
             cells = self.network.boundaries[label].cell  # distinct within a label
@@ -341,15 +341,10 @@ class ThermalSolver:
         gamma_h = step_h * (1.0 + ratio) / (1.0 + 2.0 * ratio)
         gamma_s = gamma_h * _SECONDS_PER_HOUR
         time_h = state.time_h + step_h
-        if self._fixed is not None:
-            conductivity, capacity = self._fixed[0], self._fixed[1]
-        else:
-            a_pred = state.alpha
-            if previous is not None:
-                a_pred = a_pred + ratio * (state.alpha - previous.alpha)
-            conductivity, capacity = self._properties(
-                np.minimum(np.maximum(a_pred, 0.0), 1.0), t_pred
-            )
+        a_pred = state.alpha
+        if previous is not None and self._fixed is None:  # properties that follow hydration
+            a_pred = np.minimum(np.maximum(a_pred + ratio * (a_pred - previous.alpha), 0.0), 1.0)
+        conductivity, capacity = self._properties(a_pred, t_pred)
         links, k_diag, load, bounds = self._conduction(time_h, conductivity)
         conc = self._is_concrete
 
@@ -370,7 +365,7 @@ class ThermalSolver:
             )
             diagonal = capacity - source + gamma_s * k_diag
             if self.pattern.tridiagonal:
-                return factorise_tridiagonal(diagonal, self.pattern.off_diagonal(-gamma_s * links))
+                return factorise_tridiagonal(diagonal, -gamma_s * links)
             return factorise(self.pattern.matrix(-gamma_s * links, diagonal))
 
         rate = [np.empty(0)]  # the Arrhenius factor at the last temperatures hydration() saw
