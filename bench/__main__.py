@@ -429,9 +429,11 @@ def case_3d(target_s: float = 10.0) -> dict[str, Any]:
     truth = forecast(block_3d(Resolution(surface_cell_m=0.01, growth=1.2, max_cell_m=0.125)))
     result, seconds, _ = timed(lambda: forecast(block_3d()), 1)
     # Peak resident memory of a fresh process that runs only this forecast [MB].
+    # (VmHWM, which starts afresh at exec; ru_maxrss would carry the parent's size over.)
     script = (
-        "import resource; from bench.__main__ import block_3d; from model.solver import forecast;"
-        " forecast(block_3d()); print(resource.getrusage(resource.RUSAGE_SELF).ru_maxrss)"
+        "from bench.__main__ import block_3d; from model.solver import forecast;"
+        " forecast(block_3d()); print(next(line.split()[1] for line in"
+        " open('/proc/self/status') if line.startswith('VmHWM')))"
     )
     root = Path(__file__).resolve().parents[1]
     mem = (
