@@ -47,8 +47,10 @@ __all__ = [
     "GAS_CONSTANT_J_MOLK",
     "REFERENCE_TEMPERATURE_C",
     "adiabatic_temperature",
+    "arrhenius_rate",
     "degree_of_hydration",
     "hydrating_slab",
+    "hydration_rates",
     "summary",
     "temperature_at_depth",
 ]
@@ -67,7 +69,7 @@ _LOG_ZERO = -745.0
 """Below this natural log, exp() underflows to zero in double precision [-]."""
 
 
-def _arrhenius(
+def arrhenius_rate(
     temperature_c: NDArray[np.float64], activation_energy_j_mol: float
 ) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
     """Arrhenius age factor and its temperature derivative.
@@ -92,7 +94,7 @@ def _arrhenius(
     return factor, factor * e_over_r / tk**2
 
 
-def _hydration_rate_per_te(
+def hydration_rates(
     te_h: NDArray[np.float64], tau_h: float, beta: float, alpha_u: float
 ) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]:
     """Degree of hydration, d(alpha)/d(t_e) and d2(alpha)/d(t_e)2.
@@ -155,7 +157,7 @@ def degree_of_hydration(
     numpy.ndarray
         Degree of hydration alpha [-].
     """
-    return _hydration_rate_per_te(np.asarray(te_h, dtype=float), tau_h, beta, alpha_u)[0]
+    return hydration_rates(np.asarray(te_h, dtype=float), tau_h, beta, alpha_u)[0]
 
 
 def _check_output_times(output_times_h: ArrayLike, duration_h: float) -> NDArray[np.float64]:
@@ -299,15 +301,15 @@ def hydrating_slab(
 
     def rhs(_t: float, y: NDArray[np.float64]) -> NDArray[np.float64]:
         temp, te = y[:n], y[n:]
-        age_factor, _ = _arrhenius(temp, ea)
-        _, rate, _ = _hydration_rate_per_te(te, tau_h, beta, alpha_u)
+        age_factor, _ = arrhenius_rate(temp, ea)
+        _, rate, _ = hydration_rates(te, tau_h, beta, alpha_u)
         dtemp = a_cond @ temp + b_cond + q_coef * rate * age_factor
         return np.concatenate([dtemp, age_factor])
 
     def jac(_t: float, y: NDArray[np.float64]) -> sparse.csc_matrix:
         temp, te = y[:n], y[n:]
-        age_factor, d_age = _arrhenius(temp, ea)
-        _, rate, drate = _hydration_rate_per_te(te, tau_h, beta, alpha_u)
+        age_factor, d_age = arrhenius_rate(temp, ea)
+        _, rate, drate = hydration_rates(te, tau_h, beta, alpha_u)
         j_tt = a_cond + sparse.diags(q_coef * rate * d_age)
         j_te = sparse.diags(q_coef * drate * age_factor)
         j_et = sparse.diags(d_age)
@@ -328,7 +330,7 @@ def hydrating_slab(
         raise RuntimeError(f"solve_ivp failed: {sol.message}")
     temperature = sol.y[:n].T.copy()
     te_out = sol.y[n:].T.copy()
-    alpha = _hydration_rate_per_te(te_out, tau_h, beta, alpha_u)[0]
+    alpha = hydration_rates(te_out, tau_h, beta, alpha_u)[0]
     return {
         "time_h": times,
         "x_m": (np.arange(n) + 0.5) * dx,
@@ -518,13 +520,13 @@ def adiabatic_temperature(
     ea = float(activation_energy_j_mol)
 
     def rhs(_t: float, y: NDArray[np.float64]) -> NDArray[np.float64]:
-        age_factor, _ = _arrhenius(y[:1], ea)
-        _, rate, _ = _hydration_rate_per_te(y[1:], tau_h, beta, alpha_u)
+        age_factor, _ = arrhenius_rate(y[:1], ea)
+        _, rate, _ = hydration_rates(y[1:], tau_h, beta, alpha_u)
         return np.array([q_coef * rate[0] * age_factor[0], age_factor[0]])
 
     def jac(_t: float, y: NDArray[np.float64]) -> NDArray[np.float64]:
-        age_factor, d_age = _arrhenius(y[:1], ea)
-        _, rate, drate = _hydration_rate_per_te(y[1:], tau_h, beta, alpha_u)
+        age_factor, d_age = arrhenius_rate(y[:1], ea)
+        _, rate, drate = hydration_rates(y[1:], tau_h, beta, alpha_u)
         return np.array(
             [
                 [q_coef * rate[0] * d_age[0], q_coef * drate[0] * age_factor[0]],

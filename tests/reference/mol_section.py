@@ -4,8 +4,8 @@ The half section (symmetry plane x = 0) of a 4 m wide x 3 m tall concrete footin
 3 m ground layer that extends 3 m beyond the footing side is discretised with a **uniform grid
 of square cell-centred finite volumes** (side ``cell_m``) over the L-shaped solid domain. The
 resulting ODE system is integrated with :func:`scipy.integrate.solve_ivp` (BDF, analytic sparse
-Jacobian). Nothing from the project's ``model`` or ``service`` packages is used; only numpy and
-scipy.
+Jacobian). Nothing from the project's ``model`` or ``service`` packages is used: numpy, scipy
+and the hydration and Arrhenius functions of the 1D reference, tests/reference/mol.py.
 
 Units
 -----
@@ -37,9 +37,9 @@ Model
 
       dt_e/dt = exp(-Ea/R (1/(T + 273.15) - 1/(21.1 + 273.15))),   R = 8.314 J/(mol K)
 
-  With t_e(0) = 0, alpha and all its derivatives vanish at t_e = 0; t_e is floored at
-  ``_TE_FLOOR_H`` and the formulas are evaluated in logarithmic form, so the start gives exact
-  zeros rather than 0 * inf.
+  With t_e(0) = 0, alpha and all its derivatives vanish at t_e = 0; the hydration and
+  Arrhenius functions are those of the 1D reference (tests/reference/mol.py), evaluated in
+  logarithmic form so the start gives exact zeros rather than 0 * inf.
 
 * Air temperature (daily cycle, placement at 08:00, warmest at 15:00)::
 
@@ -75,29 +75,19 @@ from numpy.typing import NDArray
 from scipy import sparse
 from scipy.integrate import solve_ivp
 
+from tests.reference.mol import arrhenius_rate, hydration_rates
+
 __all__ = [
-    "GAS_CONSTANT_J_MOLK",
-    "REFERENCE_TEMPERATURE_C",
     "air_temperature_c",
     "film_coefficient_w_m2k",
     "footing_on_ground",
 ]
-
-GAS_CONSTANT_J_MOLK = 8.314
-"""Universal gas constant R [J/(mol K)]."""
-
-REFERENCE_TEMPERATURE_C = 21.1
-"""Reference temperature of the equivalent age [degC]."""
 
 STEFAN_BOLTZMANN_W_M2K4 = 5.670374419e-8
 """Stefan-Boltzmann constant [W/(m2 K4)]."""
 
 _KELVIN = 273.15
 _SECONDS_PER_HOUR = 3600.0
-_TE_FLOOR_H = 1e-12
-"""Floor applied to the equivalent age before evaluating the hydration model [h]."""
-_LOG_ZERO = -745.0
-"""Below this natural log, exp() underflows to zero in double precision [-]."""
 
 # --- Case data (spec "2D benchmark case: footing section on a ground layer") -----------------
 CONCRETE_HALF_WIDTH_M = 2.0
@@ -179,56 +169,6 @@ def film_coefficient_w_m2k(air_c: float | NDArray[np.float64]) -> float | NDArra
         Convective plus linearised radiative film coefficient [W/(m2 K)].
     """
     return CONVECTION_W_M2K + 4.0 * EMISSIVITY * STEFAN_BOLTZMANN_W_M2K4 * (air_c + _KELVIN) ** 3
-
-
-def _arrhenius(
-    temperature_c: NDArray[np.float64], activation_energy_j_mol: float
-) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
-    """Arrhenius age factor dt_e/dt [-] and its temperature derivative [1/K].
-
-    Source: Freiesleben Hansen and Pedersen (1977); ASTM C1074, equivalent-age function.
-    """
-    tk = temperature_c + _KELVIN
-    e_over_r = activation_energy_j_mol / GAS_CONSTANT_J_MOLK
-    factor = np.exp(-e_over_r * (1.0 / tk - 1.0 / (REFERENCE_TEMPERATURE_C + _KELVIN)))
-    return factor, factor * e_over_r / tk**2
-
-
-def _hydration(
-    te_h: NDArray[np.float64], tau_h: float, beta: float, alpha_u: float
-) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.float64]]:
-    """Degree of hydration, d(alpha)/d(t_e) [1/h] and d2(alpha)/d(t_e)2 [1/h2].
-
-    Source: Schindler and Folliard (2005), alpha = alpha_u exp(-(tau/t_e)^beta). Evaluated in
-    logarithmic form (t_e floored at ``_TE_FLOOR_H``) so that t_e -> 0 gives exact zeros.
-
-    Parameters
-    ----------
-    te_h : numpy.ndarray
-        Equivalent age t_e [h].
-    tau_h : float
-        Hydration time parameter tau [h].
-    beta : float
-        Hydration shape parameter beta [-].
-    alpha_u : float
-        Ultimate degree of hydration alpha_u [-].
-
-    Returns
-    -------
-    tuple of numpy.ndarray
-        (alpha [-], d(alpha)/d(t_e) [1/h], d2(alpha)/d(t_e)2 [1/h2]).
-    """
-    te = np.maximum(te_h, _TE_FLOOR_H)
-    log_z = beta * (np.log(tau_h) - np.log(te))
-    z = np.exp(np.minimum(log_z, 700.0))
-    log_alpha = np.log(alpha_u) - z
-    alpha = np.exp(np.maximum(log_alpha, _LOG_ZERO)) * (log_alpha > _LOG_ZERO)
-    log_rate = log_alpha + np.log(beta) - np.log(te) + log_z
-    rate = np.exp(np.maximum(log_rate, _LOG_ZERO)) * (log_rate > _LOG_ZERO)
-    # d/dte of rate = rate * (beta z - beta - 1) / te
-    positive = rate > 0.0
-    drate = np.where(positive, rate * (beta * z - beta - 1.0) / np.where(positive, te, 1.0), 0.0)
-    return alpha, rate, drate
 
 
 def _cells_along(length_m: float, cell_m: float) -> int:
@@ -464,8 +404,8 @@ def footing_on_ground(
     def rhs(t_h: float, y: NDArray[np.float64]) -> NDArray[np.float64]:
         temp, te = y[:ns], y[ns:]
         air, g_air = boundary(t_h)
-        age_factor, _ = _arrhenius(temp[:nc], ACTIVATION_ENERGY_J_MOL)
-        _, rate, _ = _hydration(te, TAU_H, BETA, ALPHA_U)
+        age_factor, _ = arrhenius_rate(temp[:nc], ACTIVATION_ENERGY_J_MOL)
+        _, rate, _ = hydration_rates(te, TAU_H, BETA, ALPHA_U)
         dtemp = a_cond @ temp + b_bottom + g_air * (air - temp)
         dtemp[:nc] += q_coef * rate * age_factor
         return np.concatenate([dtemp, age_factor])
@@ -473,8 +413,8 @@ def footing_on_ground(
     def jac(t_h: float, y: NDArray[np.float64]) -> sparse.csc_matrix:
         temp, te = y[:ns], y[ns:]
         _, g_air = boundary(t_h)
-        age_factor, d_age = _arrhenius(temp[:nc], ACTIVATION_ENERGY_J_MOL)
-        _, rate, drate = _hydration(te, TAU_H, BETA, ALPHA_U)
+        age_factor, d_age = arrhenius_rate(temp[:nc], ACTIVATION_ENERGY_J_MOL)
+        _, rate, drate = hydration_rates(te, TAU_H, BETA, ALPHA_U)
         diag_tt = -g_air
         diag_tt[:nc] += q_coef * rate * d_age
         j_tt = a_cond + sparse.diags(diag_tt)
