@@ -37,6 +37,7 @@ from model.scenario import (
 )
 from model.solver import ThermalSolver, forecast, forecast_batch
 from model.uncertainty import Spreads, sample_variations
+from tests.conftest import CONTRACT_SCENARIO
 from tests.reference import mol, mol_section
 
 HYD = HydrationParameters(460000.0, 13.0, 0.9, 0.75, 41000.0)
@@ -489,7 +490,7 @@ def case_scaling() -> list[tuple[str, int, int, float]]:
 
 
 def case_http(seconds: float = 30.0, clients: int = 4) -> dict[str, Any]:
-    """The 1D example through gunicorn on 127.0.0.1 with concurrent clients."""
+    """The 1D example of DESIGN.md through gunicorn on 127.0.0.1 with concurrent clients."""
     import json
     import os
     import socket
@@ -519,29 +520,7 @@ def case_http(seconds: float = 30.0, clients: int = 4) -> dict[str, Any]:
         start_new_session=True,
     )
     url = f"http://127.0.0.1:{port}"
-    body = json.dumps(
-        {
-            "element": {"shape": "slab", "thickness_m": 2.0},
-            "mix": {
-                "cement_kg_m3": 380,
-                "water_kg_m3": 160,
-                "hydration": {
-                    "total_heat_j_kg": 460000,
-                    "tau_h": 13.0,
-                    "beta": 0.9,
-                    "alpha_u": 0.75,
-                    "activation_energy_j_mol": 41000,
-                },
-                "density_kg_m3": 2400,
-                "specific_heat_j_kgk": 1000,
-                "conductivity_w_mk": 2.5,
-            },
-            "placement": {"temperature_c": 20.0},
-            "ambient": {"air_temperature_c": 20.0},
-            "faces": {"top": {"insulation_r_m2k_w": 0.5}, "bottom": {"adiabatic": True}},
-            "duration_h": 168,
-        }
-    ).encode()
+    body = json.dumps(CONTRACT_SCENARIO).encode()  # the DESIGN.md example: 2 m slab, 168 h
     try:
         for _ in range(100):
             try:
