@@ -30,15 +30,14 @@ from model.scenario import (
     Concrete,
     Element,
     Face,
-    Ground,
     Resolution,
     Scenario,
-    Sensor,
 )
 from model.solver import ThermalSolver, forecast, forecast_batch
 from model.uncertainty import Spreads, sample_variations
 from tests.conftest import CONTRACT_SCENARIO
 from tests.reference import mol, mol_section
+from tests.scenarios import footing_on_ground
 
 HYD = HydrationParameters(460000.0, 13.0, 0.9, 0.75, 41000.0)
 CONCRETE = Concrete(
@@ -260,23 +259,8 @@ def case_1d() -> list[dict[str, Any]]:
 
 
 def footing_2d(resolution: Resolution | None = None) -> Scenario:
-    """4 m x 3 m footing section on a 3 m ground layer, 336 h, with a sensor 50 mm below the
-    top on the centre line and one 50 mm inside the formed side at mid-height."""
-    return Scenario(
-        element=Element("section", 3.0, width_m=4.0),
-        concrete=CONCRETE,
-        ambient=Ambient(daily_min_c=8.0, daily_max_c=22.0, wind_m_s=3.0),
-        faces={
-            "top": Face(insulation_r_m2k_w=0.5),
-            "left": Face(formwork_r_m2k_w=0.15),
-            "right": Face(formwork_r_m2k_w=0.15),
-        },
-        ground=Ground(depth_m=3.0, deep_temperature_c=12.0),
-        placement_c=18.0,
-        duration_h=336.0,
-        sensors=(Sensor("top", 0.05, 0.0), Sensor("side", 1.5, 1.95)),
-        resolution=resolution,
-    )
+    """4 m x 3 m footing section on a 3 m ground layer, 336 h (the case of the 2D reference)."""
+    return footing_on_ground(336.0, resolution)
 
 
 def block_3d(resolution: Resolution | None = None) -> Scenario:

@@ -3,7 +3,7 @@
 from model.ambient import Ambient
 from model.hydration import HydrationParameters
 from model.properties import MixMasses
-from model.scenario import Concrete, Element, Face, Resolution, Scenario, Sensor
+from model.scenario import Concrete, Element, Face, Ground, Resolution, Scenario, Sensor
 
 DENSITY, SPECIFIC_HEAT, CONDUCTIVITY = 2400.0, 1000.0, 2.5
 DIFFUSIVITY = CONDUCTIVITY / (DENSITY * SPECIFIC_HEAT)
@@ -52,4 +52,25 @@ def uniform(cell_m: float, step_h: float) -> Resolution:
         alpha_change=1e9,
         temperature_change_c=1e9,
         error_tolerance_c=1e9,
+    )
+
+
+def footing_on_ground(duration_h: float = 336.0, resolution: Resolution | None = None) -> Scenario:
+    """The case of tests/reference/mol_section.py: a 4 m wide, 3 m tall footing section on a
+    3 m ground layer, insulated top, formed sides, daily air cycle 8-22 C with 3 m/s wind, with
+    sensors 50 mm under the top on the centre line and 50 mm inside the side at mid-height."""
+    return Scenario(
+        element=Element("section", 3.0, width_m=4.0),
+        concrete=concrete(),
+        ambient=Ambient(daily_min_c=8.0, daily_max_c=22.0, wind_m_s=3.0),
+        faces={
+            "top": Face(insulation_r_m2k_w=0.5),
+            "left": Face(formwork_r_m2k_w=0.15),
+            "right": Face(formwork_r_m2k_w=0.15),
+        },
+        ground=Ground(depth_m=3.0, deep_temperature_c=12.0),
+        placement_c=18.0,
+        duration_h=duration_h,
+        sensors=(Sensor("top", 0.05, 0.0), Sensor("side", 1.5, 1.95)),
+        resolution=resolution,
     )

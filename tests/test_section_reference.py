@@ -11,33 +11,16 @@ is 0.003 C on the peak and up to 0.04 C on the sensor series (measured when it w
 import numpy as np
 import pytest
 
-from model.ambient import Ambient
-from model.scenario import Element, Face, Ground, Scenario, Sensor
 from model.solver import forecast
 from tests.reference import mol_section
-from tests.scenarios import concrete
+from tests.scenarios import footing_on_ground
 
 DURATION_H = 96.0
 
 
 @pytest.fixture(scope="module")
 def both():
-    ours = forecast(
-        Scenario(
-            element=Element("section", 3.0, width_m=4.0),
-            concrete=concrete(),
-            ambient=Ambient(daily_min_c=8.0, daily_max_c=22.0, wind_m_s=3.0),
-            faces={
-                "top": Face(insulation_r_m2k_w=0.5),
-                "left": Face(formwork_r_m2k_w=0.15),
-                "right": Face(formwork_r_m2k_w=0.15),
-            },
-            ground=Ground(depth_m=3.0, deep_temperature_c=12.0),
-            placement_c=18.0,
-            duration_h=DURATION_H,
-            sensors=(Sensor("top", 0.05, 0.0), Sensor("side", 1.5, 1.95)),
-        )
-    )
+    ours = forecast(footing_on_ground(DURATION_H))
     return ours, mol_section.footing_on_ground(0.05, 1e-6, duration_h=DURATION_H)
 
 
