@@ -24,6 +24,9 @@ if TYPE_CHECKING:
 
 DENSE_SAMPLES = 200_000
 """Sampling matrices with at most this many entries are applied as dense arrays (faster)."""
+KEPT_STATES_CELLS = 500
+"""Grids up to this many cells keep every step's state and reduce them all at once at the end
+(a few large array operations instead of many small ones); larger grids reduce each step."""
 
 
 class Recorder:
@@ -36,47 +39,62 @@ class Recorder:
         self.volume_weights = volumes / volumes.sum()
         matrix = solver.sampler.matrix
         self.sample_matrix = matrix.toarray() if np.prod(matrix.shape) <= DENSE_SAMPLES else matrix
-        self.mean: list[float] = []
         self.time_h: list[float] = []
         self.loss_w: list[float] = []
-        self.core: list[float] = []
-        self.coolest: list[float] = []
-        self.samples: list[NDArray[np.float64]] = []
-        self.core_te: list[float] = []
-        self.core_alpha: list[float] = []
-        self.sample_te: list[NDArray[np.float64]] = []
+        self.pending: list[State] = []
+        self.keep_states = solver.network.size <= KEPT_STATES_CELLS
+        self.reduced: dict[str, list[NDArray[np.float64]]] = {
+            name: [] for name in ("core", "coolest", "mean", "core_te", "core_alpha")
+        }
+        self.reduced["samples"], self.reduced["sample_te"] = [], []
 
     def add(self, state: State, loss_w: float) -> None:
-        t_conc = state.temperature_c
-        if self.concrete_cells.size < t_conc.size:
-            t_conc = t_conc[self.concrete_cells]
-        hottest = self.concrete_cells[int(np.argmax(t_conc))]
         self.time_h.append(state.time_h)
         self.loss_w.append(loss_w)
-        self.core.append(float(t_conc.max()))
-        self.coolest.append(float(t_conc.min()))
-        self.mean.append(float(self.volume_weights @ t_conc))
-        self.samples.append(self.sample_matrix @ state.temperature_c)
-        self.core_te.append(float(state.equivalent_age_h[hottest]))
-        self.core_alpha.append(float(state.alpha[hottest]))
-        self.sample_te.append(self.sample_matrix @ state.equivalent_age_h)
+        self.pending.append(state)
+        if not self.keep_states:
+            self._reduce()
+
+    def _reduce(self) -> None:
+        """Hottest, coolest, mean and sampled values of the states not reduced yet."""
+        if not self.pending:
+            return
+        temperature = np.array([s.temperature_c for s in self.pending])
+        te = np.array([s.equivalent_age_h for s in self.pending])
+        alpha = np.array([s.alpha for s in self.pending])
+        self.pending = []
+        t_conc = temperature
+        if self.concrete_cells.size < temperature.shape[1]:
+            t_conc = temperature[:, self.concrete_cells]
+        rows = np.arange(temperature.shape[0])
+        hottest = self.concrete_cells[np.argmax(t_conc, axis=1)]
+        out = self.reduced
+        out["core"].append(t_conc.max(axis=1))
+        out["coolest"].append(t_conc.min(axis=1))
+        out["mean"].append(t_conc @ self.volume_weights)
+        out["core_te"].append(te[rows, hottest])
+        out["core_alpha"].append(alpha[rows, hottest])
+        out["samples"].append((self.sample_matrix @ temperature.T).T)
+        out["sample_te"].append((self.sample_matrix @ te.T).T)
 
     def forecast(self, restarts_h: list[float], energy: EnergyBalance) -> Forecast:
         sc = self.solver.scenario
         sampler = self.solver.sampler
+        self._reduce()
+        reduced = {name: np.concatenate(values) for name, values in self.reduced.items()}
         time = np.array(self.time_h)
-        core = np.array(self.core)
-        samples = np.array(self.samples)
+        core = reduced["core"]
+        samples = reduced["samples"]
         faces = {name: samples[:, rows].min(axis=1) for name, rows in sampler.face_rows.items()}
         layer = np.concatenate(list(sampler.face_rows.values()))
         layer_values = samples[:, layer]
         coolest_sample = layer[np.argmin(layer_values, axis=1)]
         surface = layer_values.min(axis=1)
         steps = np.arange(time.size)
-        sample_te = np.array(self.sample_te)
+        sample_te = reduced["sample_te"]
         surface_te = sample_te[steps, coolest_sample]
         differential = core - surface
-        coolest = np.array(self.coolest)
+        coolest = reduced["coolest"]
         spread = core - coolest
         peak, peak_t = time_of_max(time, core)
         dmax, dmax_t = time_of_max(time, differential)
@@ -89,7 +107,7 @@ class Recorder:
             max_spread_c=smax,
             max_spread_time_h=smax_t,
             min_surface_temperature_c=float(surface.min()),
-            final_core_equivalent_age_h=float(self.core_te[-1]),
+            final_core_equivalent_age_h=float(reduced["core_te"][-1]),
             final_surface_equivalent_age_h=float(surface_te[-1]),
         )
         core_ns = nurse_saul_factor_ch(time, core, sc.nurse_saul_datum_c)
@@ -101,10 +119,10 @@ class Recorder:
             "differential": differential,
             "coolest": coolest,
             "spread": spread,
-            "core_te": np.array(self.core_te),
+            "core_te": reduced["core_te"],
             "surface_te": surface_te,
-            "core_alpha": np.array(self.core_alpha),
-            "mean": np.array(self.mean),
+            "core_alpha": reduced["core_alpha"],
+            "mean": reduced["mean"],
             "core_ns": core_ns,
             "surface_ns": surface_ns,
             **{f"face {n}": v for n, v in faces.items()},
