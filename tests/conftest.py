@@ -8,6 +8,7 @@ for _name in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
     os.environ.setdefault(_name, "1")
 
 import copy  # noqa: E402
+import shutil  # noqa: E402
 
 import pytest  # noqa: E402
 
@@ -59,3 +60,19 @@ def client(app):
 def contract_scenario():
     """A fresh copy of the contract example request; tests may modify it freely."""
     return copy.deepcopy(CONTRACT_SCENARIO)
+
+
+def require_program(name: str, why: str) -> str:
+    """The path of a system program a test drives for real (LibreOffice, Chromium, initdb ...).
+
+    Locally a missing program skips the test with a printed reason; in CI (``.ci/run`` sets
+    ``POURHEAT_REQUIRE_SYSTEM=true`` and installs the programs) it fails instead, so CI never
+    skips a test of a real program.
+    """
+    path = shutil.which(name)
+    if path is None:
+        message = f"{name} not found ({why}); .ci/run installs it"
+        if os.environ.get("POURHEAT_REQUIRE_SYSTEM", "").lower() == "true":
+            pytest.fail(message)
+        pytest.skip(message)
+    return path
