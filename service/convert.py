@@ -22,6 +22,8 @@ from model.scenario import (
     Sensor,
     default_resolution,
 )
+from service import rounding
+from service.assumptions import assumptions, default_ground, mean_air_c
 from service.schemas import FaceIn, MixIn, ScenarioIn
 from service.screening_json import screening_parts
 
@@ -125,7 +127,14 @@ def scenario_from(request: ScenarioIn) -> tuple[Scenario, str]:
         placement_clock_h=request.placement.clock_hour,
     )
     concrete, origin = concrete_from(request.mix)
-    ground = Ground(**request.ground.model_dump()) if request.ground is not None else None
+    ground = None
+    if request.ground is not None:
+        given = request.ground.model_dump()
+        if given["deep_temperature_c"] is None:
+            given["deep_temperature_c"] = mean_air_c(ambient, request.duration_h)
+        ground = Ground(**given)
+    elif faces_in.bottom is None:
+        ground = default_ground(ambient, request.duration_h)
     scenario = Scenario(
         element=element,
         concrete=concrete,
@@ -143,7 +152,12 @@ def scenario_from(request: ScenarioIn) -> tuple[Scenario, str]:
     return scenario, origin
 
 
-def _rounded(values: np.ndarray, digits: int = 3) -> list[float]:
+def hydration_json(hydration: HydrationParameters) -> dict[str, float]:
+    """Hydration parameters as reported (6 significant digits)."""
+    return {k: rounding.significant(v) for k, v in asdict(hydration).items()}
+
+
+def _rounded(values: np.ndarray, digits: int) -> list[float]:
     return [round(float(v), digits) for v in values]
 
 
@@ -153,8 +167,8 @@ def limit_status(result: Forecast, quantity: str, worst: float, limit: float) ->
     return {
         "limit_c": limit,
         "met": bool(worst <= limit),
-        "margin_c": round(limit - worst, 3),
-        "first_exceeded_h": result.first_time_above_h(quantity, limit),
+        "margin_c": rounding.temperature(limit - worst),
+        "first_exceeded_h": rounding.hours(result.first_time_above_h(quantity, limit)),
     }
 
 
@@ -164,16 +178,17 @@ def forecast_json(
     """The JSON body of a forecast response."""
     s = result.summary
     limits = request.limits
+    temperature, hours = rounding.temperature, rounding.hours
     summary = {
-        "peak_temperature_c": round(s.peak_temperature_c, 3),
-        "peak_time_h": round(s.peak_time_h, 3),
-        "max_differential_c": round(s.max_differential_c, 3),
-        "max_differential_time_h": round(s.max_differential_time_h, 3),
-        "max_spread_c": round(s.max_spread_c, 3),
-        "max_spread_time_h": round(s.max_spread_time_h, 3),
-        "min_surface_temperature_c": round(s.min_surface_temperature_c, 3),
-        "final_core_equivalent_age_h": round(s.final_core_equivalent_age_h, 2),
-        "final_surface_equivalent_age_h": round(s.final_surface_equivalent_age_h, 2),
+        "peak_temperature_c": temperature(s.peak_temperature_c),
+        "peak_time_h": hours(s.peak_time_h),
+        "max_differential_c": temperature(s.max_differential_c),
+        "max_differential_time_h": hours(s.max_differential_time_h),
+        "max_spread_c": temperature(s.max_spread_c),
+        "max_spread_time_h": hours(s.max_spread_time_h),
+        "min_surface_temperature_c": temperature(s.min_surface_temperature_c),
+        "final_core_equivalent_age_h": hours(s.final_core_equivalent_age_h),
+        "final_surface_equivalent_age_h": hours(s.final_surface_equivalent_age_h),
         "limits": {
             "max_temperature_c": limit_status(
                 result, "core_c", s.peak_temperature_c, limits.max_temperature_c
@@ -183,21 +198,24 @@ def forecast_json(
             ),
         },
     }
+    t, h = rounding.TEMPERATURE_DIGITS, rounding.HOURS_DIGITS
     series = {
-        "time_h": _rounded(result.time_h, 4),
-        "core_c": _rounded(result.core_c),
-        "surface_c": _rounded(result.surface_c),
-        "differential_c": _rounded(result.differential_c),
-        "coolest_c": _rounded(result.coolest_c),
-        "spread_c": _rounded(result.spread_c),
-        "air_c": _rounded(result.air_c),
-        "core_equivalent_age_h": _rounded(result.core_equivalent_age_h, 2),
-        "surface_equivalent_age_h": _rounded(result.surface_equivalent_age_h, 2),
-        "core_degree_of_hydration": _rounded(result.core_degree_of_hydration, 4),
-        "core_nurse_saul_ch": _rounded(result.core_nurse_saul_ch, 1),
-        "surface_nurse_saul_ch": _rounded(result.surface_nurse_saul_ch, 1),
-        "faces_c": {name: _rounded(v) for name, v in result.faces_c.items()},
-        "sensors": {name: _rounded(v) for name, v in result.sensors_c.items()},
+        "time_h": _rounded(result.time_h, h),
+        "core_c": _rounded(result.core_c, t),
+        "surface_c": _rounded(result.surface_c, t),
+        "differential_c": _rounded(result.differential_c, t),
+        "coolest_c": _rounded(result.coolest_c, t),
+        "spread_c": _rounded(result.spread_c, t),
+        "air_c": _rounded(result.air_c, t),
+        "core_equivalent_age_h": _rounded(result.core_equivalent_age_h, h),
+        "surface_equivalent_age_h": _rounded(result.surface_equivalent_age_h, h),
+        "core_degree_of_hydration": _rounded(
+            result.core_degree_of_hydration, rounding.HYDRATION_DEGREE_DIGITS
+        ),
+        "core_nurse_saul_ch": _rounded(result.core_nurse_saul_ch, rounding.NURSE_SAUL_DIGITS),
+        "surface_nurse_saul_ch": _rounded(result.surface_nurse_saul_ch, rounding.NURSE_SAUL_DIGITS),
+        "faces_c": {name: _rounded(v, t) for name, v in result.faces_c.items()},
+        "sensors": {name: _rounded(v, t) for name, v in result.sensors_c.items()},
     }
     more_summary, more_series = screening_parts(request, scenario, result)
     summary.update(more_summary)
@@ -206,7 +224,8 @@ def forecast_json(
         "summary": summary,
         "series": series,
         "cautions": list(CAUTIONS),
-        "hydration": {"origin": hydration_origin, **asdict(scenario.concrete.hydration)},
+        "hydration": {"origin": hydration_origin, **hydration_json(scenario.concrete.hydration)},
+        "assumptions": assumptions(request, scenario, hydration_origin),
         "numerics": {
             "cells": result.cells,
             "steps": result.steps,
@@ -246,5 +265,6 @@ def forecast_csv(body: dict[str, Any]) -> str:
     columns = [*CSV_COLUMNS, *(c for c in OPTIONAL_CSV_COLUMNS if c in series)]
     writer.writerow([*columns, *(f"sensor_{name}_c" for name in sensors)])
     for i in range(len(series["time_h"])):
-        writer.writerow([series[c][i] for c in columns] + [v[i] for v in sensors.values()])
+        row = [series[c][i] for c in columns] + [v[i] for v in sensors.values()]
+        writer.writerow([rounding.csv_cell(v) for v in row])
     return out.getvalue()

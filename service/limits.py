@@ -19,9 +19,13 @@ fixed at :data:`MAX_HOURLY_VALUES` by the pydantic schemas (service/schemas.py),
 longer list with a 422 naming the field; it is not a setting.
 
 The hook registered here also refuses, before any endpoint parses it, a JSON body that is not
-UTF-8 (400) or whose top level is not an object (400): every JSON endpoint takes an object.
+UTF-8 (400) or whose top level is not an object (400): every JSON endpoint takes an object; and
+with a 422 naming each one, a JSON object that repeats a key (at any depth: RFC 8259 leaves the
+meaning open and parsers keep one of the values silently) and a query parameter given more than
+once (``?thickness_m=1&thickness_m=2``).
 """
 
+import json
 import re
 import time
 from typing import Any
@@ -76,6 +80,67 @@ def json_depth(data: bytes, limit: int) -> int:
     return deepest
 
 
+class _Object(dict):
+    """A parsed JSON object that remembers the keys it was given more than once."""
+
+    repeated: list[str]
+
+
+def _object_pairs(pairs: list[tuple[str, Any]]) -> _Object:
+    obj = _Object(pairs)
+    counts: dict[str, int] = {}
+    for key, _ in pairs:
+        counts[key] = counts.get(key, 0) + 1
+    obj.repeated = [key for key, n in counts.items() if n > 1]
+    return obj
+
+
+def _repeated_paths(value: Any, path: str = "") -> list[str]:
+    """Dotted paths of every repeated key in a value parsed with :func:`_object_pairs`."""
+    found: list[str] = []
+    if isinstance(value, _Object):
+        found += [f"{path}{key}" for key in value.repeated]
+        for key, item in value.items():
+            found += _repeated_paths(item, f"{path}{key}.")
+    elif isinstance(value, list):
+        for i, item in enumerate(value):
+            found += _repeated_paths(item, f"{path}{i}.")
+    return found
+
+
+def repeated_keys(text: str | bytes) -> list[str]:
+    """Dotted paths (``faces.top.insulation_r_m2k_w``, list items by index) of the keys that a
+    JSON text repeats within one object; empty when none does or the text is not JSON (the
+    parser then says why). Call it only on text whose nesting depth has been checked."""
+    try:
+        parsed = json.loads(text, object_pairs_hook=_object_pairs)
+    except ValueError:
+        return []
+    return _repeated_paths(parsed)
+
+
+def _repeated_key_problem(paths: list[str]) -> Response:
+    return problem(
+        422,
+        "Repeated JSON key",
+        f"{len(paths)} key(s) are given more than once in one object: see errors",
+        [{"field": path, "message": "given more than once; give each key once"} for path in paths],
+    )
+
+
+def _check_query() -> Response | None:
+    """Refuse a query string that gives a parameter more than once (which one would count?)."""
+    repeated = [name for name, values in request.args.lists() if len(values) > 1]
+    if not repeated:
+        return None
+    return problem(
+        422,
+        "Repeated query parameter",
+        f"{len(repeated)} query parameter(s) are given more than once: see errors",
+        [{"field": name, "message": "given more than once; give it once"} for name in repeated],
+    )
+
+
 def _positive_int(value: Any, name: str) -> int:
     """A setting as a positive integer; a clear error at start-up otherwise."""
     try:
@@ -119,6 +184,9 @@ def _check_json_body(max_depth: int) -> Response | None:
             "(POURHEAT_MAX_JSON_DEPTH)",
             [{"field": "(body)", "message": f"nested more than {max_depth} levels deep"}],
         )
+    repeated = repeated_keys(data)
+    if repeated:
+        return _repeated_key_problem(repeated)
     return None
 
 
@@ -155,7 +223,7 @@ def init_app(app: Flask) -> None:
 
     @app.before_request
     def _json_limits() -> Response | None:
-        return _check_json_body(int(app.config["MAX_JSON_DEPTH"]))
+        return _check_query() or _check_json_body(int(app.config["MAX_JSON_DEPTH"]))
 
 
 def request_deadline() -> float:

@@ -9,7 +9,7 @@ from typing import Any
 
 from pydantic import ValidationError
 
-from model.planning import Limits, solve_control
+from model.planning import SEARCHES, Limits, solve_control
 from model.precooling import (
     Batch,
     fresh_concrete_temperature_c,
@@ -18,6 +18,7 @@ from model.precooling import (
 )
 from model.scenario import Scenario
 from model.solver import forecast
+from service import rounding
 from service.convert import CAUTIONS
 from service.errors import InvalidScenarioError, validation_errors
 from service.forecasting import check_budget, run_forecast, validated_scenario
@@ -31,7 +32,11 @@ MIN_CHILLED_WATER_C = 1.0
 
 
 def _summary_json(summary: Any) -> dict[str, float]:
-    return {k: round(v, 3) for k, v in asdict(summary).items()}
+    """A forecast summary as reported: temperatures 0.01 C, times 0.01 h."""
+    return {
+        k: rounding.hours(v) if k.endswith("_h") else rounding.temperature(v)
+        for k, v in asdict(summary).items()
+    }
 
 
 def _solve_one(
@@ -41,13 +46,16 @@ def _solve_one(
         result = solve_control(scenario, control, limits, partial(forecast, deadline=deadline))
     except ValueError as error:
         return {"status": "not_applicable", "value": None, "note": str(error)}
+    value = result.value
+    if value is not None:
+        value = rounding.toward_safe(value, result.tolerance, SEARCHES[control].larger_is_safer)
     return {
-        "value": result.value,
+        "value": value,
         "status": result.status,
         "tolerance": result.tolerance,
         "range": [result.low, result.high],
-        "temperature_margin_c": round(result.temperature_margin_c, 3),
-        "differential_margin_c": round(result.differential_margin_c, 3),
+        "temperature_margin_c": rounding.temperature(result.temperature_margin_c),
+        "differential_margin_c": rounding.temperature(result.differential_margin_c),
         "summary": _summary_json(result.summary),
         "forecasts_run": result.forecasts_run,
         "note": result.note,
@@ -174,11 +182,11 @@ def run_comparison(
 
 
 def comparison_csv(body: dict[str, Any]) -> str:
-    """The comparison rows as CSV."""
+    """The comparison rows as CSV; booleans as JSON writes them (true/false)."""
     out = io.StringIO()
     writer = csv.DictWriter(
         out, fieldnames=COMPARISON_COLUMNS, extrasaction="ignore", lineterminator="\n"
     )
     writer.writeheader()
-    writer.writerows(body["rows"])
+    writer.writerows({k: rounding.csv_cell(v) for k, v in row.items()} for row in body["rows"])
     return out.getvalue()

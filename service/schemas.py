@@ -22,34 +22,44 @@ HourlyTemperatures = Annotated[list[Temperature], Field(min_length=1, max_length
 HourlyNonNegative = Annotated[list[NonNegative], Field(min_length=1, max_length=20000)]
 
 
-class Strict(BaseModel):
-    """Base: unknown fields are errors; NaN and inf are rejected."""
+MIN_DIMENSION_M = 0.1
+"""Smallest element dimension accepted [m]: thinner members are not mass concrete and their
+temperature follows the air within hours (common practice, no source)."""
+MIN_GROUND_DEPTH_M = 0.5
+"""Shallowest meshed ground layer accepted [m] (common practice, no source): a thinner one
+would put the fixed deep-ground temperature right under the element."""
 
-    model_config = ConfigDict(extra="forbid", allow_inf_nan=False)
+
+class Strict(BaseModel):
+    """Base: unknown fields are errors; NaN and inf are rejected; types are strict: a boolean
+    or a string is not a number (lax parsing would read ``true`` as 1.0 and ``"2"`` as 2.0), so
+    ``"thickness_m": true`` is a 422 naming the field. Integers are accepted as numbers."""
+
+    model_config = ConfigDict(extra="forbid", allow_inf_nan=False, strict=True)
 
 
 class SlabIn(Strict):
     """A slab (mat) modelled through its thickness, per m2 of plan."""
 
     shape: Literal["slab"] = F("1D slab through the thickness", "slab")
-    thickness_m: float = F("Slab thickness [m]", 2.0, gt=0, le=20)
+    thickness_m: float = F("Slab thickness [m]", 2.0, ge=MIN_DIMENSION_M, le=20)
 
 
 class SectionIn(Strict):
     """A rectangular cross-section (wall, long footing), long in the third direction."""
 
     shape: Literal["section"] = F("2D rectangular section", "section")
-    width_m: float = F("Horizontal width of the section [m]", 0.8, gt=0, le=50)
-    height_m: float = F("Vertical height of the section [m]", 4.0, gt=0, le=50)
+    width_m: float = F("Horizontal width of the section [m]", 0.8, ge=MIN_DIMENSION_M, le=50)
+    height_m: float = F("Vertical height of the section [m]", 4.0, ge=MIN_DIMENSION_M, le=50)
 
 
 class BlockIn(Strict):
     """A rectangular block (footing, pier cap, dam lift)."""
 
     shape: Literal["block"] = F("3D rectangular block", "block")
-    length_m: float = F("Plan length (y axis) [m]", 12.0, gt=0, le=100)
-    width_m: float = F("Plan width (x axis) [m]", 8.0, gt=0, le=100)
-    height_m: float = F("Vertical height [m]", 3.0, gt=0, le=50)
+    length_m: float = F("Plan length (y axis) [m]", 12.0, ge=MIN_DIMENSION_M, le=100)
+    width_m: float = F("Plan width (x axis) [m]", 8.0, ge=MIN_DIMENSION_M, le=100)
+    height_m: float = F("Vertical height [m]", 3.0, ge=MIN_DIMENSION_M, le=50)
 
 
 ElementIn = Annotated[SlabIn | SectionIn | BlockIn, Field(discriminator="shape")]
@@ -208,7 +218,12 @@ class FacesIn(Strict):
     """Per-face conditions; `sides` applies to every side face not given on its own."""
 
     top: FaceIn | None = F("Top face", default=None)
-    bottom: FaceIn | None = F("Bottom face (omit when a ground layer is given)", default=None)
+    bottom: FaceIn | None = F(
+        "Bottom face (omit when a ground layer is given). When neither `bottom` nor `ground` is "
+        "given the element rests on a default soil layer; `{}` is a bottom bare to the air, "
+        '`{"adiabatic": true}` a symmetry plane or perfect insulation',
+        default=None,
+    )
     sides: FaceIn | None = F("All side faces of a section or block", default=None)
     left: FaceIn | None = F("Side face at -x (section, block)", default=None)
     right: FaceIn | None = F("Side face at +x (section, block)", default=None)
@@ -219,12 +234,19 @@ class FacesIn(Strict):
 class GroundIn(Strict):
     """Soil or rock under the element, meshed with its own properties."""
 
-    depth_m: float = F("Depth of the meshed layer [m]", 3.0, gt=0, le=50, default=3.0)
+    depth_m: float = F(
+        "Depth of the meshed layer [m]", 3.0, ge=MIN_GROUND_DEPTH_M, le=50, default=3.0
+    )
     conductivity_w_mk: float = F("Conductivity [W/(m K)]", 1.5, gt=0.05, le=10, default=1.5)
     density_kg_m3: float = F("Density [kg/m3]", 1900, ge=500, le=4000, default=1900.0)
     specific_heat_j_kgk: float = F("Specific heat [J/(kg K)]", 900, ge=300, le=4000, default=900.0)
-    deep_temperature_c: float = F(
-        "Fixed temperature at the bottom of the layer [C]", 15.0, ge=-60, le=120, default=15.0
+    deep_temperature_c: float | None = F(
+        "Fixed temperature at the bottom of the layer [C]; default: the mean air temperature "
+        "of the forecast",
+        15.0,
+        ge=-60,
+        le=120,
+        default=None,
     )
     initial_temperature_c: float | None = F(
         "Temperature of the layer at placement [C]; default: the deep value",
@@ -359,7 +381,11 @@ class ScenarioIn(Strict):
     faces: FacesIn = F(
         "Face conditions; faces not given are bare concrete in the air", default_factory=FacesIn
     )
-    ground: GroundIn | None = F("Soil or rock layer under the element", default=None)
+    ground: GroundIn | None = F(
+        "Soil or rock layer under the element; default (when faces.bottom is not given either): "
+        "3 m of soil, 1.5 W/(m K), 1900 kg/m3, 900 J/(kg K), at the mean air temperature",
+        default=None,
+    )
     sensors: list[SensorIn] = F("Points to report", max_length=200, default_factory=list)
     duration_h: float = F("Forecast length [h]", 168.0, gt=0, le=2000, default=168.0)
     output_interval_h: float = F(

@@ -6,17 +6,23 @@ query parameters with defaults; anything richer is a POST with a JSON scenario.
 
 from typing import Any, Literal
 
-from service.schemas import F, Strict
+from service.schemas import MIN_DIMENSION_M, F, Strict
 
 
 class SpreadsheetQueryIn(Strict):
     """Query parameters of GET /v1/forecasts (SI names; with units=us see the README)."""
 
     shape: Literal["slab", "section", "block"] = F("Element shape", "slab", default="slab")
-    thickness_m: float | None = F("Slab thickness [m]", 2.0, gt=0, le=20, default=None)
-    width_m: float | None = F("Section or block width [m]", 4.0, gt=0, le=100, default=None)
-    height_m: float | None = F("Section or block height [m]", 3.0, gt=0, le=50, default=None)
-    length_m: float | None = F("Block length [m]", 12.0, gt=0, le=100, default=None)
+    thickness_m: float | None = F(
+        "Slab thickness [m]", 2.0, ge=MIN_DIMENSION_M, le=20, default=None
+    )
+    width_m: float | None = F(
+        "Section or block width [m]", 4.0, ge=MIN_DIMENSION_M, le=100, default=None
+    )
+    height_m: float | None = F(
+        "Section or block height [m]", 3.0, ge=MIN_DIMENSION_M, le=50, default=None
+    )
+    length_m: float | None = F("Block length [m]", 12.0, ge=MIN_DIMENSION_M, le=100, default=None)
     cement_kg_m3: float = F("Portland cement content [kg/m3]", 350, ge=0, le=1500)
     fly_ash_kg_m3: float = F("Fly ash content [kg/m3]", 0, ge=0, le=1500, default=0.0)
     slag_kg_m3: float = F("Slag cement content [kg/m3]", 0, ge=0, le=1500, default=0.0)
@@ -35,7 +41,7 @@ class SpreadsheetQueryIn(Strict):
         "Side formwork or insulation R [m2 K/W]", 0.15, ge=0, le=20, default=0.0
     )
     bottom: Literal["ground", "adiabatic", "exposed"] = F(
-        "Bottom condition: on meshed ground, adiabatic, or bare to the air",
+        "Bottom condition: on the default soil layer (as POST), adiabatic, or bare to the air",
         "ground",
         default="ground",
     )
@@ -86,9 +92,8 @@ class SpreadsheetQueryIn(Strict):
                 "max_differential_c": self.max_differential_c,
             },
         }
-        if self.bottom == "ground":
-            deep = self.ground_c if self.ground_c is not None else self.air_mean_c
-            payload["ground"] = {"deep_temperature_c": deep}
-        else:
+        if self.bottom != "ground":
             faces["bottom"] = {"adiabatic": self.bottom == "adiabatic"}
+        elif self.ground_c is not None:
+            payload["ground"] = {"deep_temperature_c": self.ground_c}
         return payload

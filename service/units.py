@@ -22,8 +22,11 @@ number of SI units in one US unit.
 import csv
 import io
 import math
+import re
 from collections.abc import Callable, Mapping
 from typing import Any, NamedTuple
+
+from service.rounding import TEMPERATURE_DIGITS, significant
 
 # --- Conversion factors: SI units per US customary unit -------------------------------------
 
@@ -165,8 +168,9 @@ keys are kept; the dict's own key is renamed by the usual rule (``faces_c`` -> `
 ROUNDED_SECTIONS = ("summary", "series")
 """Top-level sections of a forecast body whose numbers the service rounds."""
 
-DIGITS = 3
-"""Decimals kept in converted values of :data:`ROUNDED_SECTIONS` and of CSV cells."""
+DIGITS = TEMPERATURE_DIGITS
+"""Decimals kept in converted values of :data:`ROUNDED_SECTIONS` and of CSV cells (0.01 F);
+converted values elsewhere in a body keep 6 significant digits (service/rounding.py)."""
 
 
 def _si_rule(key: str) -> Suffix | None:
@@ -263,8 +267,10 @@ def _number_to_si(value: float, rule: Suffix, difference: bool) -> float:
 
 
 def _as_number(value: Any) -> float | None:
-    """A value the schema would read as a number (number, bool, numeric string), or None."""
-    if isinstance(value, int | float):  # bool is an int: pydantic reads True as 1.0
+    """A value that is a number (or a numeric string), or None (booleans are not numbers)."""
+    if isinstance(value, bool):
+        return None  # not a number: left for the schema to reject
+    if isinstance(value, int | float):
         return float(value)
     if isinstance(value, str):
         try:
@@ -275,10 +281,12 @@ def _as_number(value: Any) -> float | None:
 
 
 class _Walk(NamedTuple):
-    """How to convert: direction and decimals kept (None: full precision)."""
+    """How to convert: direction and decimals kept (None: full precision, or 6 significant
+    digits with ``tidy``)."""
 
     to_us: bool
     digits: int | None
+    tidy: bool = False
 
 
 def _convert_value(
@@ -298,6 +306,8 @@ def _convert_value(
     result = convert(number, rule, difference)
     if walk.digits is not None and math.isfinite(result):
         result = round(result, walk.digits)
+    elif walk.tidy:
+        result = significant(result)
     return result
 
 
@@ -398,8 +408,9 @@ def body_to_us(body: dict) -> dict:
     differences [F] (x1.8), Nurse-Saul factors [C h] become [F h], hours and dimensionless
     values are unchanged. ``series.sensors`` and ``series.faces_c`` keep their keys (sensor
     ids, face names); ``faces_c`` is renamed ``faces_f``. Converted values in ``summary`` and
-    ``series``, which the service rounds, are rounded to 3 decimals; others (the hydration
-    parameters) keep full precision.
+    ``series``, which the service rounds, are rounded to 2 decimals; others (the hydration
+    parameters, the assumptions) keep 6 significant digits. The ``field`` of each entry of
+    ``assumptions`` is renamed to the US path.
 
     Parameters
     ----------
@@ -414,8 +425,36 @@ def body_to_us(body: dict) -> dict:
     out: dict = {}
     for key, value in body.items():
         digits = DIGITS if key in ROUNDED_SECTIONS else None
-        out.update(_walk_dict({key: value}, _Walk(to_us=True, digits=digits), ()))
+        out.update(_walk_dict({key: value}, _Walk(to_us=True, digits=digits, tidy=True), ()))
+    if isinstance(out.get("cautions"), list):
+        out["cautions"] = [text_to_us(c) if isinstance(c, str) else c for c in out["cautions"]]
+    if isinstance(out.get("assumptions"), list):
+        out["assumptions"] = [
+            {**a, "field": field_path_to_us(a["field"])} if isinstance(a, dict) else a
+            for a in out["assumptions"]
+        ]
     return out
+
+
+_TEMPERATURE_IN_TEXT = re.compile(r"(?<![\w.])(-?\d+(?:\.\d+)?) ?C\b(?! h\b)")
+"""A temperature written in a sentence: ``70 C``, ``-5.5 C`` (not ``C3S`` or ``C h``)."""
+_DIFFERENCE_NEAR = re.compile(r"differential|difference|spread|margin|rise|drop", re.I)
+
+
+def text_to_us(text: str) -> str:
+    """A sentence (a caution, a note) with its temperatures in F: ``70 C peak`` becomes
+    ``158 F peak``; a value next to the words differential, difference, spread, margin, rise or
+    drop (or after "by") is a difference (x1.8)."""
+
+    def convert(match: re.Match[str]) -> str:
+        value = float(match.group(1))
+        before = text[max(0, match.start() - 24) : match.start()].split(",")[-1]
+        after = text[match.end() : match.end() + 16].split(",")[0]
+        difference = before.endswith("by ") or bool(_DIFFERENCE_NEAR.search(f"{before} {after}"))
+        shown = value * 1.8 if difference else value * 1.8 + 32.0
+        return f"{significant(round(shown, 2)):g} F"
+
+    return _TEMPERATURE_IN_TEXT.sub(convert, text)
 
 
 def field_path_to_us(path: str, written: Any = None) -> str:
@@ -483,7 +522,7 @@ def csv_to_us(csv_text: str) -> str:
 
     Temperature columns [C] become [F]; ``differential_c`` and ``spread_c`` are differences
     (x1.8); ``sensor_<id>_c`` columns are temperatures whatever the id; hours and degrees of
-    hydration are unchanged. Converted cells are rounded to 3 decimals; empty or non-numeric
+    hydration are unchanged. Converted cells are rounded to 2 decimals; empty or non-numeric
     cells are kept.
 
     Parameters

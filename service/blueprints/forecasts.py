@@ -14,6 +14,7 @@ from service.convert import CAUTIONS, forecast_csv
 from service.errors import InvalidScenarioError
 from service.forecasting import run_forecast
 from service.limits import request_deadline
+from service.negotiation import choose_format
 from service.spreadsheet import SpreadsheetQueryIn
 
 bp = Blueprint("forecasts", __name__)
@@ -30,6 +31,8 @@ SHAPE_DIMENSIONS = {
     "block": ("length_m", "width_m", "height_m"),
 }
 CONTROL_PARAMETERS = ("units", "format", "value")
+PLAIN = {"text": "text/plain"}
+"""What ``?value=`` answers."""
 
 
 @bp.before_request
@@ -40,23 +43,15 @@ def _units() -> None:
     g.units = units
 
 
-def _format(default: str) -> str:
-    fmt = request.args.get("format")
-    if fmt is not None:
-        if fmt not in MEDIA_TYPES:
-            raise InvalidScenarioError(
-                [{"field": "format", "message": f"expected one of {sorted(MEDIA_TYPES)}"}]
-            )
-        return fmt
-    best = request.accept_mimetypes.best_match(list(MEDIA_TYPES.values()), MEDIA_TYPES[default])
-    if best is None:
-        raise NotAcceptable(f"offered: {', '.join(MEDIA_TYPES.values())}")
-    return next(name for name, media in MEDIA_TYPES.items() if media == best)
-
-
 def _caution_header() -> dict[str, str]:
-    """Formats without room for the cautions carry the first one as a header."""
-    return {"Pourheat-Caution": CAUTIONS[0]}
+    """Formats without room for the cautions carry the first one as a header (in the units of
+    the response)."""
+    caution = CAUTIONS[0]
+    if g.units == "us":
+        from service.units import text_to_us
+
+        caution = text_to_us(caution)
+    return {"Pourheat-Caution": caution}
 
 
 def _render(body: dict[str, Any], fmt: str) -> Response:
@@ -98,7 +93,7 @@ def _to_si(payload: Any) -> Any:
 @bp.post("/v1/forecasts")
 def create_forecast() -> Response:
     """Run a forecast for the posted scenario."""
-    fmt = _format("json")
+    fmt = choose_format(MEDIA_TYPES, "json")
     payload = request.get_json(silent=True)
     if payload is None:
         raise BadRequest("the body must be a JSON object (Content-Type: application/json)")
@@ -123,7 +118,13 @@ def _query_values() -> dict[str, Any]:
 
 @bp.get("/v1/forecasts")
 def query_forecast() -> Response:
-    """Spreadsheet web query: the series as CSV, or ``value=<summary field>`` as text/plain."""
+    """Spreadsheet web query: the series as CSV (whatever a spreadsheet's ``Accept`` says),
+    another format only when asked for explicitly, or ``value=<summary field>`` as text/plain."""
+    value = request.args.get("value")
+    if value is None:
+        fmt = choose_format(MEDIA_TYPES, "csv")
+    else:
+        fmt = choose_format(PLAIN, "text", allow_param=False)
     query = SpreadsheetQueryIn.model_validate(_to_si(_query_values()))
     missing = [n for n in SHAPE_DIMENSIONS[query.shape] if getattr(query, n) is None]
     if missing:
@@ -133,9 +134,8 @@ def query_forecast() -> Response:
     _, body = run_forecast(
         query.scenario_payload(), current_app.config["MAX_CELL_STEPS"], request_deadline()
     )
-    value = request.args.get("value")
     if value is None:
-        return _render(body, _format("csv"))
+        return _render(body, fmt)
     summary = body["summary"]
     if g.units == "us":
         from service.units import body_to_us

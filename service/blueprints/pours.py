@@ -17,11 +17,12 @@ from typing import Any
 
 from flask import Blueprint, Response, current_app, jsonify, request, url_for
 from pydantic import ValidationError
-from werkzeug.exceptions import BadRequest, NotAcceptable, UnsupportedMediaType
+from werkzeug.exceptions import BadRequest, UnsupportedMediaType
 
-from service import store
+from service import store, units
 from service.errors import InvalidScenarioError, problem, validation_errors
 from service.forecasting import check_budget, validated_scenario
+from service.negotiation import choose_format, requested_units
 
 bp = Blueprint("pours", __name__)
 
@@ -106,6 +107,7 @@ def _last(time: datetime | None) -> str | None:
 @bp.post("/v1/pours")
 def create_pour() -> Response:
     """Store a pour: {name, placed_at (ISO 8601 with offset), scenario}."""
+    requested_units(us_offered=False)
     payload = request.get_json(silent=True)
     if not isinstance(payload, dict):
         raise BadRequest("the body must be a JSON object (Content-Type: application/json)")
@@ -166,17 +168,22 @@ def list_pours() -> Response:
 
 @bp.get("/v1/pours/<pour_id>")
 def show_pour(pour_id: str) -> Response:
-    """One pour with its scenario, sensor ids and a count of its readings."""
+    """One pour with its scenario, sensor ids and a count of its readings; with ``units=us``
+    the scenario and the latest status in US customary units."""
+    us = requested_units() == "us"
     pour = _pour_or_404(pour_id)
     count, last = store.reading_stats(store.get_db(), pour_id)
+    latest = store.latest_status(store.get_db(), pour_id)
+    if us:
+        latest = units.body_to_us(latest) if isinstance(latest, dict) else latest
     return jsonify(
         {
             **_pour_json(pour),
-            "scenario": pour["scenario"],
+            "scenario": units.request_to_us(pour["scenario"]) if us else pour["scenario"],
             "sensors": _sensor_ids(pour["scenario"]),
             "readings_count": count,
             "last_reading_time": _last(last),
-            "latest_status": store.latest_status(store.get_db(), pour_id),
+            "latest_status": latest,
             "links": {
                 "status": url_for("monitoring.status", pour_id=pour_id),
                 "forecast": url_for("monitoring.forecast_pour", pour_id=pour_id),
@@ -310,6 +317,7 @@ def _check_row(
 def add_readings(pour_id: str) -> Response:
     """Add readings: JSON {"readings": [{time, sensor, temperature_c}, ...]} or text/csv with
     the header ``time,sensor,temperature_c``. Answers {accepted, duplicates, rejected}."""
+    requested_units(us_offered=False)
     pour = _pour_or_404(pour_id)
     if pour["archived"]:
         return problem(409, "Conflict", f"pour {pour_id!r} is archived: it takes no new readings")
@@ -354,38 +362,24 @@ def _window_bound(name: str) -> datetime | None:
     return moment
 
 
-def _format() -> str:
-    fmt = request.args.get("format")
-    if fmt is not None:
-        if fmt not in MEDIA_TYPES:
-            raise RefusedError(
-                _invalid(
-                    "Invalid query",
-                    [{"field": "format", "message": f"expected one of {sorted(MEDIA_TYPES)}"}],
-                )
-            )
-        return fmt
-    best = request.accept_mimetypes.best_match(list(MEDIA_TYPES.values()), "application/json")
-    if best is None:
-        raise NotAcceptable(f"offered: {', '.join(MEDIA_TYPES.values())}")
-    return next(name for name, media in MEDIA_TYPES.items() if media == best)
-
-
 @bp.get("/v1/pours/<pour_id>/readings")
 def get_readings(pour_id: str) -> Response:
     """Stored readings by time then sensor; ``?from=&to=`` (inclusive, ISO 8601 with offset),
     ``?sensor=``; JSON, or CSV (time,sensor,temperature_c,hours) by Accept or ``?format=csv``."""
+    us = requested_units() == "us"
     _pour_or_404(pour_id)
-    fmt = _format()
+    fmt = choose_format(MEDIA_TYPES, "json")
     start, end = _window_bound("from"), _window_bound("to")
     if start is not None and end is not None and start > end:
         return _invalid("Invalid query", [{"field": "to", "message": "earlier than from"}])
     readings = store.readings_for(store.get_db(), pour_id, start, end, request.args.get("sensor"))
     if fmt == "json":
-        return jsonify(readings=readings)
+        body = {"readings": readings}
+        return jsonify(units.body_to_us(body) if us else body)
     out = io.StringIO()
     writer = csv.writer(out, lineterminator="\n")
     writer.writerow([*CSV_HEADER, "hours"])
     for r in readings:
         writer.writerow([r["time"], r["sensor"], r["temperature_c"], r["hours"]])
-    return Response(out.getvalue(), mimetype="text/csv")
+    text = out.getvalue()
+    return Response(units.csv_to_us(text) if us else text, mimetype="text/csv")
