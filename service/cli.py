@@ -154,6 +154,9 @@ def format_summary(body: dict[str, Any], unit: str = "C") -> str:
                 verdict += f", first at {status['first_exceeded_h']:.1f} h"
         lines.append(f"Limit {_limit_name(key)} {limit:g} {unit}: {verdict}")
     lines.extend(_screening_lines(s, unit))
+    assumed = [a["field"] for a in body.get("assumptions", [])]
+    if assumed:
+        lines.append(f"Assumed (defaults applied; see the JSON output): {', '.join(assumed)}")
     lines.extend(f"Caution: {caution}" for caution in body.get("cautions", []))
     return "\n".join(lines)
 

@@ -39,6 +39,19 @@ UNITS_PARAMETER = {
     "schema": {"type": "string", "enum": ["si", "us"], "default": "si"},
     "example": "si",
 }
+SI_ONLY_PARAMETER = {
+    **UNITS_PARAMETER,
+    "description": "si only: this endpoint does not offer US customary units (units=us is a "
+    "422 naming `units`)",
+    "schema": {"type": "string", "enum": ["si"], "default": "si"},
+}
+STRICT_NOTE = (
+    "Inputs are strict: a boolean or a string is not a number; a JSON object that repeats a key "
+    "(at any depth) and a query parameter given more than once are 422s naming them. Formats "
+    "are chosen by `format=` or by Accept (the offered type with the highest quality, the "
+    "endpoint's default on ties and for */*); an Accept that no offered type satisfies is a "
+    "406."
+)
 CAUTION = (
     "Forecasts are estimates: limits come from the governing specification and the engineer of "
     "record; confirm by monitoring and follow local codes and licensed practice."
@@ -112,6 +125,7 @@ def _pour_paths() -> dict[str, Any]:
             "post": {
                 "summary": "Store a pour to monitor",
                 "operationId": "createPour",
+                "parameters": [SI_ONLY_PARAMETER],
                 "requestBody": {"required": True, "content": _json("PourIn")},
                 "responses": {
                     "201": {
@@ -145,12 +159,14 @@ def _pour_paths() -> dict[str, Any]:
             "get": {
                 "summary": "A stored pour with its scenario, sensors and links",
                 "operationId": "showPour",
+                "parameters": [UNITS_PARAMETER],
                 "responses": {
                     "200": {
                         "description": "The pour",
                         "content": {"application/json": {"schema": {"type": "object"}}},
                     },
                     "404": {"description": "No such pour", "content": PROBLEM},
+                    **_problems(422),
                 },
             },
             "delete": {
@@ -168,6 +184,7 @@ def _pour_paths() -> dict[str, Any]:
                 "summary": "Store readings (JSON or CSV); duplicates are ignored, bad rows "
                 "reported one by one",
                 "operationId": "addReadings",
+                "parameters": [SI_ONLY_PARAMETER],
                 "requestBody": {
                     "required": True,
                     "content": {**_json("ReadingsIn"), "text/csv": csv_readings},
@@ -201,6 +218,7 @@ def _pour_paths() -> dict[str, Any]:
                     )
                 ]
                 + [
+                    UNITS_PARAMETER,
                     {
                         "name": "format",
                         "in": "query",
@@ -208,7 +226,7 @@ def _pour_paths() -> dict[str, Any]:
                         "description": "json (default) or csv",
                         "schema": {"type": "string", "enum": ["json", "csv"]},
                         "example": "csv",
-                    }
+                    },
                 ],
                 "responses": {
                     "200": {
@@ -230,6 +248,7 @@ def _pour_paths() -> dict[str, Any]:
                 "given. With no readings it is the planned forecast. " + CAUTION,
                 "operationId": "forecastPour",
                 "parameters": [
+                    UNITS_PARAMETER,
                     {
                         "name": "fit_placement",
                         "in": "query",
@@ -260,7 +279,7 @@ def _pour_paths() -> dict[str, Any]:
                         },
                     },
                     "404": {"description": "No such pour", "content": PROBLEM},
-                    **_problems(422, 503),
+                    **_problems(406, 422, 503),
                 },
             },
         },
@@ -269,10 +288,11 @@ def _pour_paths() -> dict[str, Any]:
             "get": {
                 "summary": "Compact status for dashboards",
                 "operationId": "pourStatus",
+                "parameters": [UNITS_PARAMETER],
                 "responses": {
                     "200": {"description": "Status", "content": _json("PourStatusOut")},
                     "404": {"description": "No such pour", "content": PROBLEM},
-                    **_problems(422, 503),
+                    **_problems(406, 422, 503),
                 },
             },
         },
@@ -337,6 +357,8 @@ def build_spec() -> dict[str, Any]:
             "near-surface temperature and core-to-surface differential. "
             + CAUTION
             + " "
+            + STRICT_NOTE
+            + " "
             + AUTH_NOTE,
         },
         "paths": {
@@ -395,7 +417,12 @@ def build_spec() -> dict[str, Any]:
                 "get": {
                     "summary": "Forecast from flat query parameters (spreadsheet web query)",
                     "description": "Returns the series as CSV, or with `value` one summary "
-                    "number as text/plain. " + CAUTION,
+                    "number as text/plain. CSV is the default: it is answered to no Accept, to "
+                    "*/* and to browser-style Accept headers (text/html,...,*/*;q=0.8), as "
+                    "spreadsheet web queries send; JSON or a chart only with `format=` or an "
+                    "Accept that ranks that type strictly above text/csv. The CSV and chart "
+                    "responses carry the headers Pourheat-Caution and Pourheat-Assumptions. "
+                    + CAUTION,
                     "operationId": "queryForecast",
                     "parameters": [
                         *_query_parameters(),
@@ -427,6 +454,7 @@ def build_spec() -> dict[str, Any]:
                     "forecasts; the answer meets the limits and one tolerance beyond misses them. "
                     + CAUTION,
                     "operationId": "createPlan",
+                    "parameters": [SI_ONLY_PARAMETER],
                     "requestBody": {
                         "required": True,
                         "content": {
@@ -442,7 +470,7 @@ def build_spec() -> dict[str, Any]:
                                 }
                             },
                         },
-                        **_problems(400, 413, 422, 503),
+                        **_problems(400, 406, 413, 422, 503),
                     },
                 }
             },
@@ -453,7 +481,8 @@ def build_spec() -> dict[str, Any]:
                     "forecasts run in parallel. " + CAUTION,
                     "operationId": "createComparison",
                     "parameters": [
-                        {**format_parameter, "schema": {"type": "string", "enum": ["json", "csv"]}}
+                        UNITS_PARAMETER,
+                        {**format_parameter, "schema": {"type": "string", "enum": ["json", "csv"]}},
                     ],
                     "requestBody": {
                         "required": True,
@@ -473,7 +502,7 @@ def build_spec() -> dict[str, Any]:
                                 "text/csv": {"schema": {"type": "string"}},
                             },
                         },
-                        **_problems(400, 413, 422, 503),
+                        **_problems(400, 406, 413, 422, 503),
                     },
                 }
             },

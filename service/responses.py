@@ -191,6 +191,17 @@ class NumericsOut(Out):
     energy_imbalance: float = F("(generated - stored - lost) / generated heat [-]", 2e-7)
 
 
+class AssumptionOut(Out):
+    """A default the forecast applied because the request left the field out."""
+
+    field: str = F("Dotted request path left out", "ground")
+    value: str | float | dict[str, Any] = F(
+        "What was used instead: a number, a name, or an object whose keys carry units",
+        {"depth_m": 3.0, "deep_temperature_c": 18.0},
+    )
+    note: str = F("Why and from where", "neither ground nor faces.bottom given: ...")
+
+
 class ForecastOut(Out):
     """A forecast."""
 
@@ -200,6 +211,10 @@ class ForecastOut(Out):
         "Cautions that go with every forecast", ["Limits come from the governing specification ..."]
     )
     hydration: HydrationUsedOut = F("Hydration parameters used")
+    assumptions: list[AssumptionOut] = F(
+        "Every default applied on the caller's behalf (ground, faces, limits, mix models, "
+        "near-surface depth, resolution ...)"
+    )
     numerics: NumericsOut = F("Solver statistics")
 
 

@@ -43,15 +43,25 @@ def _units() -> None:
     g.units = units
 
 
-def _caution_header() -> dict[str, str]:
-    """Formats without room for the cautions carry the first one as a header (in the units of
-    the response)."""
+def _caution_header(body: dict[str, Any] | None = None) -> dict[str, str]:
+    """Formats without room for the cautions and assumptions carry the first caution, and the
+    fields whose defaults were assumed (details in the JSON form), as headers, in the units of
+    the response."""
     caution = CAUTIONS[0]
-    if g.units == "us":
+    us = g.units == "us"
+    if us:
         from service.units import text_to_us
 
         caution = text_to_us(caution)
-    return {"Pourheat-Caution": caution}
+    headers = {"Pourheat-Caution": caution}
+    if body is not None:
+        names = [a["field"] for a in body.get("assumptions", [])]
+        if us:
+            from service.units import field_path_to_us
+
+            names = [field_path_to_us(n) for n in names]
+        headers["Pourheat-Assumptions"] = ", ".join(names)
+    return headers
 
 
 def _render(body: dict[str, Any], fmt: str) -> Response:
@@ -63,7 +73,7 @@ def _render(body: dict[str, Any], fmt: str) -> Response:
             from service.units import csv_to_us
 
             text = csv_to_us(text)
-        return Response(text, mimetype="text/csv", headers=_caution_header())
+        return Response(text, mimetype="text/csv", headers=_caution_header(body))
     shown = body
     if us:
         from service.units import body_to_us
@@ -78,7 +88,7 @@ def _render(body: dict[str, Any], fmt: str) -> Response:
     return Response(
         render_chart(shown, fmt, units=g.units),
         mimetype=MEDIA_TYPES[fmt],
-        headers=_caution_header(),
+        headers=_caution_header(body),
     )
 
 
