@@ -57,6 +57,15 @@ def cross_field_errors(s: ScenarioIn) -> list[dict[str, str]]:
             )
 
     el = s.element
+    dims = [el.thickness_m] if el.shape == "slab" else [el.width_m, el.height_m]
+    if el.shape == "block":
+        dims.append(el.length_m)
+    if s.near_surface_depth_m >= min(dims) / 2:
+        add(
+            "near_surface_depth_m",
+            f"{s.near_surface_depth_m:g} m is not inside the element: it must be less than half "
+            f"its smallest dimension ({min(dims):g} m)",
+        )
     ids = [sensor.id for sensor in s.sensors]
     for i, sensor in enumerate(s.sensors):
         if ids.count(sensor.id) > 1:

@@ -22,6 +22,7 @@ from pydantic import ValidationError
 from service.convert import forecast_csv
 from service.errors import InvalidScenarioError, validation_errors
 from service.forecasting import DEFAULT_MAX_CELL_STEPS, run_forecast
+from service.limits import repeated_keys
 
 EXIT_OK = 0
 EXIT_OUTPUT_ERROR = 1
@@ -54,9 +55,13 @@ def read_scenario(source: str, stdin: TextIO | None = None) -> Any:
     except (OSError, UnicodeDecodeError) as error:
         raise InputError(f"cannot read {source}: {error}") from error
     try:
-        return json.loads(text)
+        payload = json.loads(text)
     except json.JSONDecodeError as error:
         raise InputError(f"{name} is not valid JSON: {error}") from error
+    repeated = repeated_keys(text)
+    if repeated:
+        raise InputError(f"{name} repeats the key(s) {', '.join(repeated)} in one object")
+    return payload
 
 
 def max_cell_steps_setting() -> float:

@@ -234,3 +234,19 @@ def test_plan_values_to_their_tolerance_and_no_noise(client, contract_scenario):
     answer = response.get_json()["controls"]["max_placement_temperature_c"]
     assert answer["status"] == "found"
     assert answer["value"] == round(answer["value"], 2)  # tolerance 0.25 C: two decimals
+
+
+def test_near_surface_depth_must_lie_inside_the_element(client, contract_scenario):
+    scenario = short(contract_scenario)
+    scenario["element"]["thickness_m"] = 0.1
+    scenario["near_surface_depth_m"] = 0.3
+    assert fields(client.post("/v1/forecasts", json=scenario)) == ["near_surface_depth_m"]
+
+
+def test_command_line_refuses_a_repeated_key(tmp_path, capsys):
+    from service.cli import main
+
+    path = tmp_path / "twice.json"
+    path.write_text('{"duration_h": 48, "duration_h": 24}', encoding="utf-8")
+    assert main(["forecast", str(path)]) == 2
+    assert "duration_h" in capsys.readouterr().err
