@@ -19,6 +19,7 @@ from service.checks import cross_field_errors
 from service.convert import forecast_json, scenario_from
 from service.errors import InvalidScenarioError
 from service.parallel import map_in_processes
+from service.rounding import temperature
 from service.schemas import ScenarioIn, UncertainScenarioIn
 
 DEFAULT_MAX_CELL_STEPS = 40_000_000
@@ -115,8 +116,8 @@ def uncertainty_band(
         "seed": seed,
         "method": "Latin hypercube of whole forecasts",
         "spreads": asdict(spreads),
-        "peak_temperature_c": {k: round(v, 3) for k, v in percentiles(peaks).items()},
-        "max_differential_c": {k: round(v, 3) for k, v in percentiles(diffs).items()},
+        "peak_temperature_c": {k: temperature(v) for k, v in percentiles(peaks).items()},
+        "max_differential_c": {k: temperature(v) for k, v in percentiles(diffs).items()},
     }
 
 

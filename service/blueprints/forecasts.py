@@ -14,7 +14,7 @@ from service.convert import CAUTIONS, forecast_csv
 from service.errors import InvalidScenarioError
 from service.forecasting import run_forecast
 from service.limits import request_deadline
-from service.negotiation import choose_format
+from service.negotiation import choose_format, requested_units
 from service.spreadsheet import SpreadsheetQueryIn
 
 bp = Blueprint("forecasts", __name__)
@@ -37,10 +37,7 @@ PLAIN = {"text": "text/plain"}
 
 @bp.before_request
 def _units() -> None:
-    units = request.args.get("units", "si")
-    if units not in ("si", "us"):
-        raise InvalidScenarioError([{"field": "units", "message": "expected 'si' or 'us'"}])
-    g.units = units
+    requested_units()  # sets g.units
 
 
 def _caution_header(body: dict[str, Any] | None = None) -> dict[str, str]:
