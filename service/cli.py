@@ -22,6 +22,7 @@ from pydantic import ValidationError
 from service.convert import forecast_csv
 from service.errors import InvalidScenarioError, validation_errors
 from service.forecasting import DEFAULT_MAX_CELL_STEPS, run_forecast
+from service.progress import ProgressDisplay
 
 EXIT_OK = 0
 EXIT_OUTPUT_ERROR = 1
@@ -182,10 +183,12 @@ def cmd_forecast(args: argparse.Namespace) -> int:
         except ImportError as error:
             print(f"pourheat: --units us is not available: {error}", file=sys.stderr)
             return EXIT_BAD_INPUT
+    shown = ProgressDisplay("forecast", "h", args.quiet)
     try:
         _, body = run_forecast(
             units.request_to_si(payload) if units is not None else payload,
             max_cell_steps_setting(),
+            progress=shown,
         )
     except (ValidationError, InvalidScenarioError) as error:
         errors = validation_errors(error) if isinstance(error, ValidationError) else error.errors
@@ -193,6 +196,8 @@ def cmd_forecast(args: argparse.Namespace) -> int:
             errors = [{**e, "field": units.field_path_to_us(e["field"], payload)} for e in errors]
         _print_errors(errors)
         return EXIT_BAD_INPUT
+    finally:
+        shown.close()
 
     exceeded = limits_exceeded(body)  # decided on the SI body, whatever the output units
     csv_text = forecast_csv(body) if args.csv else None
@@ -246,13 +251,20 @@ def cmd_plan(args: argparse.Namespace) -> int:
         return EXIT_BAD_INPUT
     from service.planning import run_plan
 
+    shown = ProgressDisplay("plan", "forecasts", args.quiet)
     try:
-        body = run_plan({"scenario": scenario, "solve_for": args.solve}, max_cell_steps_setting())
+        body = run_plan(
+            {"scenario": scenario, "solve_for": args.solve},
+            max_cell_steps_setting(),
+            progress=shown,
+        )
     except (ValidationError, InvalidScenarioError) as error:
         _print_errors(
             validation_errors(error) if isinstance(error, ValidationError) else error.errors
         )
         return EXIT_BAD_INPUT
+    finally:
+        shown.close()
     if args.json:
         try:
             Path(args.json).write_text(json.dumps(body, indent=2) + "\n", encoding="utf-8")
@@ -374,6 +386,9 @@ def cmd_serve(args: argparse.Namespace) -> int:
     return EXIT_OK  # pragma: no cover - execvp does not return
 
 
+QUIET_HELP = "no progress display (for cron); errors and the result are still printed"
+
+
 def build_parser() -> argparse.ArgumentParser:
     """The argument parser of ``pourheat``."""
     parser = argparse.ArgumentParser(
@@ -403,6 +418,7 @@ def build_parser() -> argparse.ArgumentParser:
         action="store_true",
         help="exit 3 when a limit (max temperature, max differential) is forecast exceeded",
     )
+    fc.add_argument("--quiet", action="store_true", help=QUIET_HELP)
     fc.set_defaults(handler=cmd_forecast)
 
     pl = sub.add_parser(
@@ -431,6 +447,7 @@ def build_parser() -> argparse.ArgumentParser:
         action="store_true",
         help="exit 3 when a control cannot meet the limits over its whole range",
     )
+    pl.add_argument("--quiet", action="store_true", help=QUIET_HELP)
     pl.set_defaults(handler=cmd_plan)
 
     wt = sub.add_parser(
