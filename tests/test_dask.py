@@ -18,8 +18,8 @@ from collections.abc import Iterator
 import pytest
 
 from service import parallel
-from service.planning import run_comparison
 from service.forecasting import run_forecast
+from service.planning import run_comparison
 
 SECTION = {
     "element": {"shape": "section", "width_m": 1.2, "height_m": 1.6},
