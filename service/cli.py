@@ -342,6 +342,47 @@ def cmd_watch(args: argparse.Namespace) -> int:
     return EXIT_LIMIT_EXCEEDED if not body["limits_met"] else EXIT_OK
 
 
+def cmd_refresh(args: argparse.Namespace) -> int:
+    """``pourheat refresh``: re-forecast every active stored pour, print each status line.
+
+    Exit 3 when a limit of any pour is measured or forecast to be exceeded, 1 when a pour could
+    not be refreshed or the database cannot be opened.
+    """
+    from service import store
+    from service.monitoring import status_line
+    from service.parallel import executor_name
+    from service.refresh import refresh_pours
+
+    database = args.db or os.environ.get("POURHEAT_DB", "pourheat.sqlite3")
+    shown = ProgressDisplay("refresh", "pours", args.quiet)
+    try:
+        db = store.connect(database)
+    except Exception as error:  # noqa: BLE001 - any failure to open is reported the same way
+        print(f"pourheat: cannot open the database {database}: {error}", file=sys.stderr)
+        return EXIT_OUTPUT_ERROR
+    try:
+        if not args.quiet:
+            print(f"refreshing on {executor_name()}", file=sys.stderr)
+        statuses = refresh_pours(db, max_cell_steps_setting(), progress=shown)
+    finally:
+        shown.close()
+        db.close()
+    failed = exceeded = 0
+    for status in statuses:
+        if "error" in status:
+            failed += 1
+            print(
+                f"pourheat: {status['name']} ({status['id']}): {status['error']}", file=sys.stderr
+            )
+            continue
+        print(status_line(status))
+        exceeded += not status["limits_met"]
+    print(f"{len(statuses)} pours: {exceeded} over a limit, {failed} failed", file=sys.stderr)
+    if failed:
+        return EXIT_OUTPUT_ERROR
+    return EXIT_LIMIT_EXCEEDED if exceeded else EXIT_OK
+
+
 def _report_problem(status: int, body: Any) -> None:
     if isinstance(body, dict):
         print(f"pourheat: HTTP {status}: {body.get('detail', '')}", file=sys.stderr)
@@ -462,6 +503,19 @@ def build_parser() -> argparse.ArgumentParser:
     wt.add_argument("--readings", metavar="FILE.csv", help="readings to post (optional)")
     wt.add_argument("--server", default=DEFAULT_SERVER, help=f"default {DEFAULT_SERVER}")
     wt.set_defaults(handler=cmd_watch)
+
+    rf = sub.add_parser(
+        "refresh",
+        help="re-forecast every active stored pour and keep its status (for cron)",
+        description="Calibrate and re-forecast every active stored pour on the configured "
+        "executor (local processes, or the Dask cluster of POURHEAT_DASK_SCHEDULER), keep each "
+        "status, print one status line per pour. Exit 3 when any limit is measured or forecast "
+        "exceeded, 1 when a pour cannot be refreshed.",
+        epilog=EPILOG,
+    )
+    rf.add_argument("--db", help="database (default: $POURHEAT_DB or pourheat.sqlite3)")
+    rf.add_argument("--quiet", action="store_true", help=QUIET_HELP)
+    rf.set_defaults(handler=cmd_refresh)
 
     sv = sub.add_parser(
         "serve",

@@ -214,3 +214,25 @@ def test_a_malformed_scheduler_setting_stops_start_up(monkeypatch):
     monkeypatch.setenv(parallel.SCHEDULER_VARIABLE, "127.0.0.1:8786")
     with pytest.raises(RuntimeError, match=parallel.SCHEDULER_VARIABLE):
         create_app({"TESTING": True})
+
+
+def test_refresh_on_the_cluster_equals_local(cluster, tmp_path, monkeypatch):
+    from service import store
+    from service.refresh import refresh_pours
+    from tests.test_refresh import COMPARED, stored_pours
+
+    database = str(tmp_path / "refresh.sqlite3")
+    stored_pours(database)
+    db = store.connect(database)
+    try:
+        _on(None, monkeypatch)
+        local = refresh_pours(db, BUDGET)
+        before = _tasks_seen(cluster.address)
+        _on(cluster.address, monkeypatch)
+        remote = refresh_pours(db, BUDGET)
+    finally:
+        db.close()
+    assert _tasks_seen(cluster.address) - before >= 2
+    assert [{k: s[k] for k in COMPARED} for s in remote] == [
+        {k: s[k] for k in COMPARED} for s in local
+    ]
