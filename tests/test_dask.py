@@ -8,9 +8,6 @@ caller; an unreachable scheduler is a prompt 503.
 
 import os
 import signal
-import socket
-import subprocess
-import sys
 import threading
 import time
 from collections.abc import Iterator
@@ -20,6 +17,7 @@ import pytest
 from service import parallel
 from service.forecasting import run_forecast
 from service.planning import run_comparison
+from tests.dask_cluster import Cluster, free_port
 
 SECTION = {
     "element": {"shape": "section", "width_m": 1.2, "height_m": 1.6},
@@ -35,72 +33,6 @@ VARIANTS = {
     f"placed at {t} C": {"placement": {"temperature_c": t}} for t in (10, 12, 14, 16, 20, 22)
 }
 BUDGET = 4e7
-
-
-def _free_port() -> int:
-    with socket.socket() as s:
-        s.bind(("127.0.0.1", 0))
-        return s.getsockname()[1]
-
-
-class Cluster:
-    """A scheduler and workers in child processes, on loopback ports, in a temporary folder."""
-
-    def __init__(self, folder: str, workers: int = 2) -> None:
-        self.folder = folder
-        self.address = f"tcp://127.0.0.1:{_free_port()}"
-        env = {**os.environ, "PYTHONPATH": os.getcwd(), "DASK_DISTRIBUTED__WORKER__DAEMON": "0"}
-        port = self.address.rsplit(":", 1)[1]
-        common = ["--no-dashboard"]
-        self.scheduler = self._start(
-            ["scheduler", "--host", "127.0.0.1", "--port", port, *common], env, "scheduler"
-        )
-        self.workers = [
-            self._start(
-                [
-                    "worker",
-                    self.address,
-                    "--host",
-                    "127.0.0.1",
-                    "--nthreads",
-                    "1",
-                    "--no-nanny",
-                    "--name",
-                    f"w{i}",
-                    "--local-directory",
-                    folder,
-                    *common,
-                ],
-                env,
-                f"worker{i}",
-            )
-            for i in range(workers)
-        ]
-        from distributed import Client
-
-        with Client(self.address, timeout=30, set_as_default=False) as client:
-            client.wait_for_workers(workers, timeout=60)
-
-    def _start(self, argv: list[str], env: dict[str, str], name: str) -> subprocess.Popen:
-        log = open(os.path.join(self.folder, f"{name}.log"), "w")  # noqa: SIM115 - kept open
-        return subprocess.Popen(
-            [sys.executable, "-m", "dask", *argv],
-            env=env,
-            cwd=os.getcwd(),
-            stdout=log,
-            stderr=subprocess.STDOUT,
-            start_new_session=True,
-        )
-
-    def stop(self) -> None:
-        for process in [*self.workers, self.scheduler]:
-            if process.poll() is None:
-                process.terminate()
-        for process in [*self.workers, self.scheduler]:
-            try:
-                process.wait(timeout=10)
-            except subprocess.TimeoutExpired:
-                process.kill()
 
 
 def _cluster(tmp_path_factory: pytest.TempPathFactory) -> Iterator[Cluster]:
@@ -200,7 +132,7 @@ def test_a_cluster_without_workers_answers_503_by_the_deadline(own_cluster, clie
 
 
 def test_an_unreachable_scheduler_is_a_503_naming_the_setting(client, monkeypatch):
-    _on(f"tcp://127.0.0.1:{_free_port()}", monkeypatch)
+    _on(f"tcp://127.0.0.1:{free_port()}", monkeypatch)
     monkeypatch.setattr(parallel, "CONNECT_TIMEOUT_S", 2.0)
     answer = client.post("/v1/comparisons", json={"base": SECTION, "variants": VARIANTS})
     assert answer.status_code == 503
