@@ -41,6 +41,7 @@ from __future__ import annotations
 import logging
 import math
 import time
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -430,14 +431,17 @@ class ThermalSolver:
         }
         return sorted(events) + [sc.duration_h]
 
-    def run(self, deadline: float | None = None) -> Forecast:
+    def run(
+        self, deadline: float | None = None, progress: Callable[[float, float], None] | None = None
+    ) -> Forecast:
         """March from placement to the end of the forecast and summarise.
 
         ``deadline`` is a ``time.monotonic()`` value after which the run stops with
-        :class:`DeadlineExceededError` (a wall-clock cap for services).
+        :class:`DeadlineExceededError` (a wall-clock cap for services). ``progress`` is called
+        after each step with the simulated time and the horizon [h].
         """
         record = Recorder(self)
-        restarts, energy = self._march(record, deadline)
+        restarts, energy = self._march(record, deadline, progress)
         return record.forecast(restarts, energy)
 
     def run_batch(self, deadline: float | None = None) -> BatchForecast:
@@ -448,7 +452,10 @@ class ThermalSolver:
         return record.forecast(restarts)
 
     def _march(
-        self, record: Recorder | BatchRecorder, deadline: float | None
+        self,
+        record: Recorder | BatchRecorder,
+        deadline: float | None,
+        progress: Callable[[float, float], None] | None = None,
     ) -> tuple[list[float], EnergyBalance]:
         """Step from placement to the end, handing every accepted state to ``record``; returns
         the removal times (where the history restarted) and the energy balance."""
@@ -506,6 +513,8 @@ class ThermalSolver:
                 lost += 0.5 * (record.loss_w[-1] + loss) * step * _SECONDS_PER_HOUR
                 record.add(new, loss)
                 older, previous, state, last_step = previous, state, new, step
+                if progress is not None:
+                    progress(state.time_h, self.scenario.duration_h)
                 desired = step * min(MAX_STEP_GROWTH, 0.9 / max(change, 1e-6))
                 if not self.pattern.tridiagonal:
                     rung = math.floor(math.log(desired / res.first_step_h, STEP_LADDER) + 1e-9)

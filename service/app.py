@@ -12,7 +12,7 @@ from typing import Any
 
 from flask import Flask
 
-from service import auth, errors, limits, store
+from service import auth, errors, limits, parallel, store
 from service.blueprints import forecasts, health, meta, monitoring, plans, pours
 from service.forecasting import DEFAULT_MAX_CELL_STEPS
 from service.limits import (
@@ -56,6 +56,7 @@ def create_app(test_config: dict[str, Any] | None = None) -> Flask:
     if test_config:
         app.config.update(test_config)
     app.json.sort_keys = False
+    parallel.check_setting()
     errors.init_app(app)
     store.init_app(app)
     auth.init_app(app)

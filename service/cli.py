@@ -23,6 +23,7 @@ from service.convert import forecast_csv
 from service.errors import InvalidScenarioError, validation_errors
 from service.forecasting import DEFAULT_MAX_CELL_STEPS, run_forecast
 from service.limits import repeated_keys
+from service.progress import ProgressDisplay
 
 EXIT_OK = 0
 EXIT_OUTPUT_ERROR = 1
@@ -190,10 +191,12 @@ def cmd_forecast(args: argparse.Namespace) -> int:
         except ImportError as error:
             print(f"pourheat: --units us is not available: {error}", file=sys.stderr)
             return EXIT_BAD_INPUT
+    shown = ProgressDisplay("forecast", "h", args.quiet)
     try:
         _, body = run_forecast(
             units.request_to_si(payload) if units is not None else payload,
             max_cell_steps_setting(),
+            progress=shown,
         )
     except (ValidationError, InvalidScenarioError) as error:
         errors = validation_errors(error) if isinstance(error, ValidationError) else error.errors
@@ -201,6 +204,8 @@ def cmd_forecast(args: argparse.Namespace) -> int:
             errors = [{**e, "field": units.field_path_to_us(e["field"], payload)} for e in errors]
         _print_errors(errors)
         return EXIT_BAD_INPUT
+    finally:
+        shown.close()
 
     exceeded = limits_exceeded(body)  # decided on the SI body, whatever the output units
     csv_text = forecast_csv(body) if args.csv else None
@@ -254,13 +259,20 @@ def cmd_plan(args: argparse.Namespace) -> int:
         return EXIT_BAD_INPUT
     from service.planning import run_plan
 
+    shown = ProgressDisplay("plan", "forecasts", args.quiet)
     try:
-        body = run_plan({"scenario": scenario, "solve_for": args.solve}, max_cell_steps_setting())
+        body = run_plan(
+            {"scenario": scenario, "solve_for": args.solve},
+            max_cell_steps_setting(),
+            progress=shown,
+        )
     except (ValidationError, InvalidScenarioError) as error:
         _print_errors(
             validation_errors(error) if isinstance(error, ValidationError) else error.errors
         )
         return EXIT_BAD_INPUT
+    finally:
+        shown.close()
     if args.json:
         try:
             Path(args.json).write_text(json.dumps(body, indent=2) + "\n", encoding="utf-8")
@@ -338,6 +350,47 @@ def cmd_watch(args: argparse.Namespace) -> int:
     return EXIT_LIMIT_EXCEEDED if not body["limits_met"] else EXIT_OK
 
 
+def cmd_refresh(args: argparse.Namespace) -> int:
+    """``pourheat refresh``: re-forecast every active stored pour, print each status line.
+
+    Exit 3 when a limit of any pour is measured or forecast to be exceeded, 1 when a pour could
+    not be refreshed or the database cannot be opened.
+    """
+    from service import store
+    from service.monitoring import status_line
+    from service.parallel import executor_name
+    from service.refresh import refresh_pours
+
+    database = args.db or os.environ.get("POURHEAT_DB", "pourheat.sqlite3")
+    shown = ProgressDisplay("refresh", "pours", args.quiet)
+    try:
+        db = store.connect(database)
+    except Exception as error:  # noqa: BLE001 - any failure to open is reported the same way
+        print(f"pourheat: cannot open the database {database}: {error}", file=sys.stderr)
+        return EXIT_OUTPUT_ERROR
+    try:
+        if not args.quiet:
+            print(f"refreshing on {executor_name()}", file=sys.stderr)
+        statuses = refresh_pours(db, max_cell_steps_setting(), progress=shown)
+    finally:
+        shown.close()
+        db.close()
+    failed = exceeded = 0
+    for status in statuses:
+        if "error" in status:
+            failed += 1
+            print(
+                f"pourheat: {status['name']} ({status['id']}): {status['error']}", file=sys.stderr
+            )
+            continue
+        print(status_line(status))
+        exceeded += not status["limits_met"]
+    print(f"{len(statuses)} pours: {exceeded} over a limit, {failed} failed", file=sys.stderr)
+    if failed:
+        return EXIT_OUTPUT_ERROR
+    return EXIT_LIMIT_EXCEEDED if exceeded else EXIT_OK
+
+
 def _report_problem(status: int, body: Any) -> None:
     if isinstance(body, dict):
         print(f"pourheat: HTTP {status}: {body.get('detail', '')}", file=sys.stderr)
@@ -382,6 +435,9 @@ def cmd_serve(args: argparse.Namespace) -> int:
     return EXIT_OK  # pragma: no cover - execvp does not return
 
 
+QUIET_HELP = "no progress display (for cron); errors and the result are still printed"
+
+
 def build_parser() -> argparse.ArgumentParser:
     """The argument parser of ``pourheat``."""
     parser = argparse.ArgumentParser(
@@ -411,6 +467,7 @@ def build_parser() -> argparse.ArgumentParser:
         action="store_true",
         help="exit 3 when a limit (max temperature, max differential) is forecast exceeded",
     )
+    fc.add_argument("--quiet", action="store_true", help=QUIET_HELP)
     fc.set_defaults(handler=cmd_forecast)
 
     pl = sub.add_parser(
@@ -439,6 +496,7 @@ def build_parser() -> argparse.ArgumentParser:
         action="store_true",
         help="exit 3 when a control cannot meet the limits over its whole range",
     )
+    pl.add_argument("--quiet", action="store_true", help=QUIET_HELP)
     pl.set_defaults(handler=cmd_plan)
 
     wt = sub.add_parser(
@@ -453,6 +511,19 @@ def build_parser() -> argparse.ArgumentParser:
     wt.add_argument("--readings", metavar="FILE.csv", help="readings to post (optional)")
     wt.add_argument("--server", default=DEFAULT_SERVER, help=f"default {DEFAULT_SERVER}")
     wt.set_defaults(handler=cmd_watch)
+
+    rf = sub.add_parser(
+        "refresh",
+        help="re-forecast every active stored pour and keep its status (for cron)",
+        description="Calibrate and re-forecast every active stored pour on the configured "
+        "executor (local processes, or the Dask cluster of POURHEAT_DASK_SCHEDULER), keep each "
+        "status, print one status line per pour. Exit 3 when any limit is measured or forecast "
+        "exceeded, 1 when a pour cannot be refreshed.",
+        epilog=EPILOG,
+    )
+    rf.add_argument("--db", help="database (default: $POURHEAT_DB or pourheat.sqlite3)")
+    rf.add_argument("--quiet", action="store_true", help=QUIET_HELP)
+    rf.set_defaults(handler=cmd_refresh)
 
     sv = sub.add_parser(
         "serve",

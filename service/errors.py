@@ -17,6 +17,10 @@ class InvalidScenarioError(ValueError):
         super().__init__("; ".join(f"{e['field']}: {e['message']}" for e in errors))
         self.errors = errors
 
+    def __reduce__(self) -> tuple[Any, ...]:
+        """Pickled with its error list (it crosses process and cluster boundaries)."""
+        return (type(self), (self.errors,))
+
 
 def problem(
     status: int, title: str, detail: str, errors: list[dict[str, str]] | None = None
@@ -84,7 +88,11 @@ def init_app(app: Flask) -> None:
 
     @app.errorhandler(HTTPException)
     def _http(error: HTTPException) -> Response:
-        return problem(error.code or 500, error.name, error.description or "")
+        response = problem(error.code or 500, error.name, error.description or "")
+        for name, value in error.get_headers():  # Allow, Retry-After, WWW-Authenticate ...
+            if name.lower() != "content-type":
+                response.headers[name] = value
+        return response
 
     @app.errorhandler(Exception)
     def _unexpected(error: Exception) -> Response:  # pragma: no cover - last resort

@@ -5,7 +5,6 @@ Shared by the HTTP blueprints and the command line so both answer the same way.
 
 import math
 from dataclasses import asdict
-from functools import partial
 from typing import Any
 
 import numpy as np
@@ -18,7 +17,7 @@ from model.uncertainty import Spreads, percentiles, sample_scenarios, sample_var
 from service.checks import cross_field_errors
 from service.convert import forecast_json, scenario_from
 from service.errors import InvalidScenarioError
-from service.parallel import map_in_processes
+from service.parallel import Progress, run_many
 from service.rounding import temperature
 from service.schemas import ScenarioIn, UncertainScenarioIn
 
@@ -78,11 +77,12 @@ def validated_scenario(
     return scenario_in, scenario, origin
 
 
-def solve(scenario: Scenario, deadline: float | None = None):
+def solve(scenario: Scenario, deadline: float | None = None, progress: Progress | None = None):
     """Run one forecast; a solver failure becomes a 422 naming the scenario. Past ``deadline``
-    (a ``time.monotonic()`` value) the solver raises DeadlineExceededError (a 503)."""
+    (a ``time.monotonic()`` value) the solver raises DeadlineExceededError (a 503);
+    ``progress(simulated_h, horizon_h)`` follows the march."""
     try:
-        return ThermalSolver(scenario).run(deadline)
+        return ThermalSolver(scenario).run(deadline, progress)
     except ConvergenceError as error:
         raise InvalidScenarioError(
             [{"field": "(scenario)", "message": f"{error}; try a smaller resolution.max_step_h"}]
@@ -99,15 +99,14 @@ def uncertainty_band(
     """P10/P50/P90 of peak and maximum differential over a Latin hypercube of forecasts.
 
     Slabs step all samples together as one batch; sections and blocks run one forecast per
-    sample in parallel processes.
+    sample on the executor of service/parallel.py (local processes or a Dask cluster).
     """
     if scenario.element.shape == "slab":
         batch = forecast_batch(scenario, sample_variations(spreads, samples, seed), deadline)
         peaks, diffs = batch.peak_temperature_c, batch.max_differential_c
     else:
-        summaries = map_in_processes(
-            partial(_summary_of, deadline=deadline),
-            sample_scenarios(scenario, spreads, samples, seed),
+        summaries = run_many(
+            _summary_of, sample_scenarios(scenario, spreads, samples, seed), deadline
         )
         peaks = np.array([s.peak_temperature_c for s in summaries])
         diffs = np.array([s.max_differential_c for s in summaries])
@@ -122,11 +121,15 @@ def uncertainty_band(
 
 
 def run_forecast(
-    payload: Any, max_cell_steps: float = DEFAULT_MAX_CELL_STEPS, deadline: float | None = None
+    payload: Any,
+    max_cell_steps: float = DEFAULT_MAX_CELL_STEPS,
+    deadline: float | None = None,
+    progress: Progress | None = None,
 ) -> tuple[ScenarioIn, dict[str, Any]]:
     """Validate a scenario payload and forecast it; returns the request and the response body.
 
     With ``uncertainty`` in the payload the body's summary also has an ``uncertainty`` band.
+    ``progress(simulated_h, horizon_h)`` follows the forecast (not the band).
 
     Raises
     ------
@@ -140,7 +143,7 @@ def run_forecast(
     check_budget(scenario, max_cell_steps)
     if band is not None:
         check_budget(scenario, max_cell_steps, band.samples, "uncertainty.samples")
-    body = forecast_json(scenario_in, scenario, solve(scenario, deadline), origin)
+    body = forecast_json(scenario_in, scenario, solve(scenario, deadline, progress), origin)
     if band is not None:
         spreads = Spreads(
             band.placement_sd_c, band.air_sd_c, band.total_heat_rel_sd, band.tau_rel_sd

@@ -22,7 +22,7 @@ from service import rounding
 from service.convert import CAUTIONS
 from service.errors import InvalidScenarioError, validation_errors
 from service.forecasting import check_budget, run_forecast, validated_scenario
-from service.parallel import map_in_processes
+from service.parallel import Progress, run_many, tick
 from service.schemas import BatchIn, ComparisonIn, PlanIn
 
 PLAN_EVALUATIONS = 14
@@ -39,11 +39,20 @@ def _summary_json(summary: Any) -> dict[str, float]:
     }
 
 
+def _counted_forecast(scenario: Scenario, deadline: float | None) -> Any:
+    """One forecast of a search, reported to the executor's progress."""
+    result = forecast(scenario, deadline)
+    tick()
+    return result
+
+
 def _solve_one(
     control: str, scenario: Scenario, limits: Limits, deadline: float | None
 ) -> dict[str, Any]:
     try:
-        result = solve_control(scenario, control, limits, partial(forecast, deadline=deadline))
+        result = solve_control(
+            scenario, control, limits, partial(_counted_forecast, deadline=deadline)
+        )
     except ValueError as error:
         return {"status": "not_applicable", "value": None, "note": str(error)}
     value = result.value
@@ -87,8 +96,14 @@ def precooling_json(batch_in: BatchIn, target_c: float | None) -> dict[str, Any]
     return out
 
 
-def run_plan(payload: Any, max_cell_steps: float, deadline: float | None = None) -> dict[str, Any]:
-    """Solve each requested control; the body of POST /v1/plans."""
+def run_plan(
+    payload: Any,
+    max_cell_steps: float,
+    deadline: float | None = None,
+    progress: Progress | None = None,
+) -> dict[str, Any]:
+    """Solve each requested control; the body of POST /v1/plans. ``progress(done, total)``
+    counts forecasts (the total an estimate)."""
     plan = PlanIn.model_validate(payload)
     try:
         _, scenario, _ = validated_scenario(plan.scenario.model_dump())
@@ -102,8 +117,12 @@ def run_plan(payload: Any, max_cell_steps: float, deadline: float | None = None)
     check_budget(scenario, max_cell_steps, PLAN_EVALUATIONS * len(controls), "solve_for")
     chosen = plan.limits or plan.scenario.limits
     limits = Limits(chosen.max_temperature_c, chosen.max_differential_c)
-    results = map_in_processes(
-        partial(_solve_one, scenario=scenario, limits=limits, deadline=deadline), controls
+    results = run_many(
+        partial(_solve_one, scenario=scenario, limits=limits),
+        controls,
+        deadline,
+        progress,
+        ticks_expected=PLAN_EVALUATIONS * len(controls),
     )
     body: dict[str, Any] = {
         "limits": {
@@ -152,7 +171,10 @@ COMPARISON_COLUMNS = (
 
 
 def run_comparison(
-    payload: Any, max_cell_steps: float, deadline: float | None = None
+    payload: Any,
+    max_cell_steps: float,
+    deadline: float | None = None,
+    progress: Progress | None = None,
 ) -> dict[str, Any]:
     """One summary row per variant (the base first); the body of POST /v1/comparisons."""
     request = ComparisonIn.model_validate(payload)
@@ -171,9 +193,11 @@ def run_comparison(
             errors += [{**e, "field": f"{prefix}.{e['field']}"} for e in error.errors]
     if errors:
         raise InvalidScenarioError(errors)
-    rows = map_in_processes(
-        partial(_forecast_row, max_cell_steps=max_cell_steps, deadline=deadline),
+    rows = run_many(
+        partial(_forecast_row, max_cell_steps=max_cell_steps),
         list(scenarios.values()),
+        deadline,
+        progress,
     )
     return {
         "rows": [{"variant": name, **row} for name, row in zip(scenarios, rows, strict=True)],
