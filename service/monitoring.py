@@ -6,7 +6,7 @@ from typing import Any
 
 import numpy as np
 
-from model.calibration import AIR_SENSOR, calibrate
+from model.calibration import AIR_SENSOR, F_SCALE_C, LOSS, Calibration, calibrate
 from model.planning import Limits, solve_control
 from model.solver import forecast
 from service.convert import forecast_json
@@ -15,8 +15,10 @@ from service.forecasting import check_budget, solve, validated_scenario
 
 EXTRA_HORIZON_H = 48.0
 """A re-forecast always looks at least this far past the latest reading [h]."""
-CALIBRATION_RUNS = 40
-"""Typical number of whole forecasts a calibration takes (for the compute budget)."""
+CALIBRATION_RUNS = {"slab": 40, "section": 65, "block": 65}
+"""Typical number of whole forecasts a calibration takes, by shape (for the compute budget): 25
+to 45 measured for slabs (a batched Jacobian counts as one), about 50 to 65 for sections and
+blocks, whose Jacobians take one forecast per fitted parameter (tests/test_calibration.py)."""
 CURRENT_WINDOW_H = 2.0
 """Readings this close to the latest one count as "current" in the status [h]."""
 
@@ -42,7 +44,7 @@ def pour_forecast(
     now_h = float(hours.max()) if hours.size else 0.0
     if now_h + EXTRA_HORIZON_H > scenario.duration_h:
         scenario = replace(scenario, duration_h=float(np.ceil(now_h + EXTRA_HORIZON_H)))
-    check_budget(scenario, max_cell_steps, CALIBRATION_RUNS)
+    check_budget(scenario, max_cell_steps, CALIBRATION_RUNS[scenario.element.shape])
     concrete_readings = int(np.count_nonzero(sensors != AIR_SENSOR))
     calibration: dict[str, Any]
     if concrete_readings == 0:
@@ -58,11 +60,7 @@ def pour_forecast(
         scenario = fit.scenario
         calibration = {
             "status": "calibrated to the readings so far",
-            "values": {k: round(v, 4) for k, v in fit.values.items()},
-            "standard_errors": {k: round(v, 4) for k, v in fit.standard_errors.items()},
-            "rms_by_sensor_c": {k: round(v, 3) for k, v in fit.rms_by_sensor_c.items()},
-            "rms_c": round(fit.rms_c, 3),
-            "readings_used": fit.readings_used,
+            **_calibration_json(fit),
             "air_readings_used": int(np.count_nonzero(sensors == AIR_SENSOR)),
         }
     result = solve(scenario, deadline)
@@ -75,6 +73,31 @@ def pour_forecast(
     )
     body["earliest_insulation_removal_h"] = _earliest_removal(scenario, limits, deadline)
     return body
+
+
+def _calibration_json(fit: Calibration) -> dict[str, Any]:
+    """The fitted values, their errors, misfits and suspect sensors of a calibration."""
+    return {
+        "values": {k: round(v, 4) for k, v in fit.values.items()},
+        "standard_errors": {k: round(v, 4) for k, v in fit.standard_errors.items()},
+        "rms_by_sensor_c": {k: round(v, 3) for k, v in fit.rms_by_sensor_c.items()},
+        "rms_c": round(fit.rms_c, 3),
+        "readings_used": fit.readings_used,
+        "suspect_sensors": [
+            {
+                "sensor": s.sensor,
+                "reason": s.reason,
+                "readings_excluded": s.readings_excluded,
+                "rms_misfit_c": round(s.rms_misfit_c, 3),
+                "median_error_c": round(s.median_error_c, 3),
+                "detail": s.detail,
+            }
+            for s in fit.suspects
+        ],
+        "loss": LOSS,
+        "loss_scale_c": F_SCALE_C,
+        "forecasts_run": fit.forecasts,
+    }
 
 
 def _earliest_removal(scenario: Any, limits: Any, deadline: float | None) -> float | None:
@@ -124,6 +147,7 @@ def pour_status(
             None if removal is None else round(max(removal - body["now_h"], 0.0), 1)
         ),
         "calibration": body["calibration"].get("status"),
+        "suspect_sensors": body["calibration"].get("suspect_sensors", []),
         "cautions": body["cautions"],
     }
 

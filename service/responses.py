@@ -374,13 +374,35 @@ class ReadingsOut(Out):
     readings: list[ReadingOut] = F("Readings")
 
 
+class SuspectSensorOut(Out):
+    """A sensor whose readings the calibration left out, in whole or in part."""
+
+    sensor: str = F("Sensor id", "S2")
+    reason: str = F(
+        "stuck (a flat run while the forecast moves), offset (the misfit is mostly a constant "
+        "shift) or outlier misfit (its RMS misfit stands out from the other sensors')",
+        "offset",
+    )
+    readings_excluded: int = F("Its readings left out of the fit", 48)
+    rms_misfit_c: float = F(
+        "RMS of measured minus calibrated forecast over those readings [C]", 2.02
+    )
+    median_error_c: float = F(
+        "Median of measured minus calibrated forecast over those readings [C]", 2.0
+    )
+    detail: str = F("One sentence for people", "reads +2.00 C from the calibrated forecast")
+
+
 class PourForecastOut(ForecastOut):
     """A re-forecast of a stored pour, calibrated to its readings."""
 
     calibration: dict[str, Any] = F(
-        "status, fitted values (Hu and tau factors, top conductance factor, placement offset "
-        "C), their standard errors, RMS misfit per sensor and overall [C], readings used",
-        {"status": "calibrated to the readings so far", "rms_c": 0.18},
+        "status, fitted values (Hu and tau factors, top and, for sections and blocks, side "
+        "conductance factors, placement offset C), their standard errors, RMS misfit per "
+        "sensor and overall [C], readings used, suspect_sensors (see SuspectSensorOut: "
+        "stuck, offset or outlier sensors left out of the fit), the robust loss and its scale "
+        "[C], forecasts run",
+        {"status": "calibrated to the readings so far", "rms_c": 0.18, "suspect_sensors": []},
     )
     now_h: float = F("Hours since placement of the latest reading [h]", 48.0)
     differential_limit_exceeded_h: float | None = F(
@@ -411,4 +433,8 @@ class PourStatusOut(Out):
         "Hours until the insulation may come off", 140.0
     )
     calibration: str | None = F("Calibration status", "calibrated to the readings so far")
+    suspect_sensors: list[SuspectSensorOut] = F(
+        "Sensors the calibration left out (stuck, offset or outlier misfit); their readings "
+        "still count in the measured values above"
+    )
     cautions: list[str] = F("Cautions", ["Limits come from ..."])

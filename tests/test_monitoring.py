@@ -193,3 +193,46 @@ def test_show_pour_carries_the_latest_status(client):
     shown = client.get(f"/v1/pours/{pour}").get_json()["latest_status"]
     assert shown["now_h"] == status["now_h"] == pytest.approx(12.0)
     assert shown["computed_at"].endswith("Z")
+
+
+def test_stuck_and_offset_sensors_are_named_in_the_forecast_and_the_status(client):
+    """Four sensors; the true pour (Hu +12 %, top insulation half as good) is read with T2
+    stuck at 30.0 C from 10 h and T4 reading 2 C high, hours 20-25 dropped. Reference: the
+    true pour's own forecast (POST /v1/forecasts). Both sensors are named with their reason in
+    `calibration.suspect_sensors` and in the status; the peak is still within 1 C."""
+    plan = _plan()
+    plan["sensors"] = [*SENSORS, {"id": "T4", "depth_m": 1.5}]
+    truth = copy.deepcopy(plan)
+    truth["mix"]["hydration"]["total_heat_j_kg"] *= 1.12
+    truth["faces"]["top"]["insulation_r_m2k_w"] = 0.25
+    true_body = client.post("/v1/forecasts", json=truth).get_json()
+    rng = np.random.default_rng(9)
+    readings = []
+    for h in [h for h in range(1, 37) if not 20 <= h < 26]:
+        day, hour = divmod(12 + h, 24)
+        for sensor in ("T1", "T2", "T3", "T4"):
+            value = true_body["series"]["sensors"][sensor][h] + rng.normal(0.0, 0.15)
+            value = 30.0 if sensor == "T2" and h >= 10 else value + 2.0 * (sensor == "T4")
+            readings.append(
+                {
+                    "time": f"2026-11-{2 + day:02d}T{hour:02d}:00:00Z",
+                    "sensor": sensor,
+                    "temperature_c": round(value, 1),
+                }
+            )
+    pour = client.post(
+        "/v1/pours", json={"name": "Mat B", "placed_at": PLACED_AT, "scenario": plan}
+    ).get_json()["id"]
+    client.post(f"/v1/pours/{pour}/readings", json={"readings": readings})
+    body = client.get(f"/v1/pours/{pour}/forecast").get_json()
+    suspects = {s["sensor"]: s for s in body["calibration"]["suspect_sensors"]}
+    assert {k: s["reason"] for k, s in suspects.items()} == {"T2": "stuck", "T4": "offset"}
+    assert suspects["T4"]["median_error_c"] == pytest.approx(2.0, abs=0.3)
+    assert body["calibration"]["loss"] == "huber"
+    peak_truth = true_body["summary"]["peak_temperature_c"]
+    assert body["summary"]["peak_temperature_c"] == pytest.approx(peak_truth, abs=1.0)
+    status = client.get(f"/v1/pours/{pour}/status").get_json()
+    assert [(s["sensor"], s["reason"]) for s in status["suspect_sensors"]] == [
+        ("T2", "stuck"),
+        ("T4", "offset"),
+    ]
