@@ -119,7 +119,7 @@ def uncertainty_band(
     return {
         **band_sampling(samples),
         "seed": seed,
-        "method": "Latin hypercube of whole forecasts",
+        "method": "Latin hypercube of whole forecasts; percentiles at rank p n + 1/2 (Hazen)",
         "spreads": asdict(spreads),
         "peak_temperature_c": {k: round(v, 3) for k, v in percentiles(peaks).items()},
         "max_differential_c": {k: round(v, 3) for k, v in percentiles(diffs).items()},

@@ -57,7 +57,10 @@ class UncertaintyOut(Out):
         "Whether samples reaches min_stable_samples; if not, a caution says so", False
     )
     seed: int = F("Random seed", 1)
-    method: str = F("Sampling method", "Latin hypercube of whole forecasts")
+    method: str = F(
+        "Sampling method and percentile rule",
+        "Latin hypercube of whole forecasts; percentiles at rank p n + 1/2 (Hazen)",
+    )
     spreads: dict[str, float] = F(
         "Standard deviations used (C, or relative)", {"placement_sd_c": 1.0}
     )
