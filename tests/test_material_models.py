@@ -86,8 +86,9 @@ def test_hydration_estimate_worked_example():
 # model's forms). For beta they print the SO3 exponent as -0.558 but note that it gives
 # beta = 32 for the cement above, impossible, and that +0.558 gives about 0.65: the model's
 # +0.558 (checked below). They give the alpha_u cap as 1.09; the model caps alpha_u at 1 (a
-# degree of hydration cannot exceed 1; a cap of 1 in the paper is from memory). The Ea regression and its fly-ash/slag factor were not found: from
-# memory (Schindler 2004, ACI Materials Journal 101(1)).
+# degree of hydration cannot exceed 1; a cap of 1 in the paper is from memory). The Ea
+# regression and its fly-ash/slag factor were not found: from memory (Schindler 2004, ACI
+# Materials Journal 101(1)).
 def test_tau_regression_matches_the_published_quotation():
     cement = CementComposition(55.0, 20.0, 8.0, 9.0, 3.0, 1.0, 2.0, 380.0)
     est = estimate_hydration(Binder(350.0, 0.0, 0.0, 157.5, cement))
