@@ -141,7 +141,8 @@ class Binder:
 
 
 # Heat of complete hydration of each Bogue compound and oxide [J/g of that compound]
-# (Schindler & Folliard 2005, eq. 3, after Lerch & Bogue; from memory).
+# (Schindler & Folliard 2005, after Lerch & Bogue; agrees with the secondary quotation described in
+# tests/test_material_models.py).
 CEMENT_HEAT_J_G = {
     "c3s": 500.0,
     "c2s": 260.0,
@@ -175,16 +176,24 @@ def estimate_hydration(binder: Binder) -> HydrationParameters:
     Notes
     -----
     With p_cem, p_FA, p_SLAG the mass fractions of the total cementitious content, p_FA-CaO the
-    CaO fraction of the fly ash, the Bogue fractions of the cement and Blaine in m2/kg
-    (Schindler & Folliard 2005, eqs. 4-8, from memory):
+    CaO fraction of the fly ash, pC3S, pC3A, pC4AF, pSO3 the Bogue mass fractions of the cement
+    and Blaine its fineness in m2/kg (Schindler & Folliard 2005):
 
     - ``Hu = Hcem p_cem + 461 p_SLAG + 1800 p_FA-CaO p_FA`` [J/g]
     - ``alpha_u = 1.031 w/cm / (0.194 + w/cm) + 0.50 p_FA + 0.30 p_SLAG``, at most 1
-    - ``tau = 66.78 pC3A^-0.154 pC4AF^-0.401 Blaine^-0.804 pSO3^-0.758
+    - ``tau = 66.78 pC3A^-0.154 pC3S^-0.401 Blaine^-0.804 pSO3^-0.758
       exp(2.187 p_SLAG + 9.5 p_FA p_FA-CaO)`` [h]
     - ``beta = 181.4 pC3A^0.146 pC3S^0.227 Blaine^-0.535 pSO3^0.558 exp(-0.647 p_SLAG)``
     - ``Ea = 22100 f_E pC3A^0.30 pC4AF^0.25 Blaine^0.35`` [J/mol], with
-      ``f_E = 1 - 1.05 p_FA (1 - p_FA-CaO / 0.40) + 0.40 p_SLAG``.
+      ``f_E = 1 - 1.05 p_FA (1 - p_FA-CaO / 0.40) + 0.40 p_SLAG`` (Schindler 2004, ACI
+      Materials Journal 101(1); used unchanged by Schindler & Folliard 2005).
+
+    The primary papers could not be consulted here. The tau regression (C3S, not C4AF, in its
+    second factor), the Hu, alpha_u and beta forms and the positive SO3 exponent of beta agree
+    with a secondary quotation of the 2005 paper (see tests/test_material_models.py,
+    which describes it and checks its worked value); the Ea regression, its fly-ash/slag factor and
+    the cap of alpha_u at 1 are from memory. More C3S (the fast-reacting alite) shortens tau,
+    as it should; C4AF does not enter tau.
     """
     cc = binder.cementitious_kg_m3
     p_cem = binder.cement_kg_m3 / cc
@@ -202,7 +211,7 @@ def estimate_hydration(binder: Binder) -> HydrationParameters:
     tau = (
         66.78
         * f["c3a"] ** -0.154
-        * f["c4af"] ** -0.401
+        * f["c3s"] ** -0.401
         * blaine**-0.804
         * f["so3"] ** -0.758
         * np.exp(2.187 * p_slag + 9.5 * p_fa * p_cao)

@@ -13,7 +13,13 @@ from model.grid import cell_count
 from model.results import Summary
 from model.scenario import Scenario
 from model.solver import ConvergenceError, ThermalSolver, forecast, forecast_batch
-from model.uncertainty import Spreads, percentiles, sample_scenarios, sample_variations
+from model.uncertainty import (
+    Spreads,
+    band_sampling,
+    percentiles,
+    sample_scenarios,
+    sample_variations,
+)
 from service.checks import cross_field_errors
 from service.convert import forecast_json, scenario_from
 from service.errors import InvalidScenarioError
@@ -111,9 +117,9 @@ def uncertainty_band(
         peaks = np.array([s.peak_temperature_c for s in summaries])
         diffs = np.array([s.max_differential_c for s in summaries])
     return {
-        "samples": samples,
+        **band_sampling(samples),
         "seed": seed,
-        "method": "Latin hypercube of whole forecasts",
+        "method": "Latin hypercube of whole forecasts; percentiles at rank p n + 1/2 (Hazen)",
         "spreads": asdict(spreads),
         "peak_temperature_c": {k: temperature(v) for k, v in percentiles(peaks).items()},
         "max_differential_c": {k: temperature(v) for k, v in percentiles(diffs).items()},
@@ -148,7 +154,19 @@ def run_forecast(
         spreads = Spreads(
             band.placement_sd_c, band.air_sd_c, band.total_heat_rel_sd, band.tau_rel_sd
         )
-        body["summary"]["uncertainty"] = uncertainty_band(
+        body["summary"]["uncertainty"] = uncertainty = uncertainty_band(
             scenario, spreads, band.samples, band.seed, deadline
         )
+        if not uncertainty["enough_samples"]:
+            body["cautions"].append(few_samples_caution(uncertainty))
     return scenario_in, body
+
+
+def few_samples_caution(uncertainty: dict) -> str:
+    """The caution for a band from too few samples to hold 80 % of outcomes reliably."""
+    return (
+        f"The P10-P90 band comes from {uncertainty['samples']} forecasts: it holds 80 % of "
+        f"outcomes only to within about {100 * uncertainty['band_content_sd']:.0f} percentage "
+        "points (one standard deviation); ask for uncertainty.samples of at least "
+        f"{uncertainty['min_stable_samples']} for a stable band."
+    )

@@ -45,8 +45,22 @@ class UncertaintyOut(Out):
     """Band of the forecast over sampled inputs."""
 
     samples: int = F("Number of whole forecasts run", 32)
+    band_content_sd: float = F(
+        "Standard deviation of the probability the P10-P90 band holds (nominally 0.8), from "
+        "order statistics of this many independent samples [-]",
+        0.0686,
+    )
+    min_stable_samples: int = F(
+        "Fewest samples whose band content varies by at most 0.05 (the README explains)", 62
+    )
+    enough_samples: bool = F(
+        "Whether samples reaches min_stable_samples; if not, a caution says so", False
+    )
     seed: int = F("Random seed", 1)
-    method: str = F("Sampling method", "Latin hypercube of whole forecasts")
+    method: str = F(
+        "Sampling method and percentile rule",
+        "Latin hypercube of whole forecasts; percentiles at rank p n + 1/2 (Hazen)",
+    )
     spreads: dict[str, float] = F(
         "Standard deviations used (C, or relative)", {"placement_sd_c": 1.0}
     )
