@@ -26,10 +26,11 @@ import threading
 from collections.abc import Iterator, Sequence
 from contextlib import contextmanager
 from dataclasses import dataclass
-from datetime import datetime, timedelta
+from datetime import UTC, datetime, timedelta
 from typing import Any
 
 import matplotlib
+import numpy as np
 from matplotlib.axes import Axes
 from matplotlib.backends.backend_agg import FigureCanvasAgg
 from matplotlib.backends.backend_svg import FigureCanvasSVG
@@ -195,6 +196,21 @@ def removal_marks(scenario: dict[str, Any]) -> tuple[tuple[float, str], ...]:
     return tuple((h, " + ".join(by_hour[h]) + " off") for h in sorted(by_hour))
 
 
+def pour_options(pour: dict[str, Any], size: str = "screen") -> ChartOptions:
+    """Chart options of a stored pour (as ``service.store.get_pour`` gives it): its name, its
+    placement in its own UTC offset, the planned removals and "now" at the server's clock."""
+    local = pour.get("placed_at_local")
+    placed_at = datetime.fromisoformat(local) if local else pour["placed_at"]
+    now_h = (datetime.now(UTC) - pour["placed_at"]).total_seconds() / 3600.0
+    return ChartOptions(
+        title=pour["name"],
+        placed_at=placed_at,
+        now_h=now_h,
+        removals=removal_marks(pour["scenario"]),
+        size=size,
+    )
+
+
 def _numbers(values: Sequence[float | None]) -> list[float]:
     """A series with null values as NaN, which matplotlib leaves as gaps."""
     return [math.nan if v is None else float(v) for v in values]
@@ -211,21 +227,31 @@ def _number_text(value: float) -> str:
     return f"{value:.1f}".rstrip("0").rstrip(".")
 
 
+def _dense(
+    xs: Sequence[float], ys: Sequence[float], x0: float, x1: float
+) -> list[tuple[float, float]]:
+    """The points of a curve, and for a line of 3 or more points also 400 points along it
+    across [x0, x1] (so a segment between reported hours counts too); NaN gaps dropped."""
+    points = [(x, y) for x, y in zip(xs, ys, strict=False) if not (math.isnan(x) or math.isnan(y))]
+    if len(points) >= 3:
+        px, py = zip(*points, strict=True)
+        grid = np.linspace(max(x0, px[0]), min(x1, px[-1]), 400)
+        points += list(zip(grid.tolist(), np.interp(grid, px, py).tolist(), strict=True))
+    return points
+
+
 def _label_spot(
     ax: Axes, curves: list[tuple[list[float], list[float]]], limit: float, size_frac: tuple
-) -> tuple[float, float, str]:
+) -> tuple[float, float, str, int]:
     """Where a label of ``size_frac`` (width, height as fractions of the axes) sits by the
     line at ``limit`` with the fewest data points under it: (x in axes fraction, y in data,
-    vertical alignment). Above the line is preferred, then the left."""
+    vertical alignment, points under it). Above the line is preferred, then the left."""
     (x0, x1), (y0, y1) = ax.get_xlim(), ax.get_ylim()
     width, height = size_frac[0] * (x1 - x0), size_frac[1] * (y1 - y0)
     pad = 0.015 * (y1 - y0)
-    points = [
-        (x, y)
-        for xs, ys in curves
-        for x, y in zip(xs, ys, strict=False)
-        if not (math.isnan(x) or math.isnan(y))
-    ]
+    points = np.array([p for xs, ys in curves for p in _dense(xs, ys, x0, x1)] or [(x0, y0)])
+    starts = 0.01 + 0.01 * np.arange(100)
+    starts = starts[starts + size_frac[0] <= 0.99]
     best: tuple[int, int, float, float, str] | None = None
     for side, (low, high, y, align) in enumerate(
         [
@@ -233,20 +259,18 @@ def _label_spot(
             (limit - pad - height, limit - pad, limit - pad, "top"),
         ]
     ):
-        if low < y0 or high > y1:
+        if low < y0 or high > y1 or starts.size == 0:
             continue
-        for step in range(0, 100):
-            start_frac = 0.01 + 0.01 * step
-            if start_frac + size_frac[0] > 0.99:
-                break
-            start = x0 + start_frac * (x1 - x0)
-            hits = sum(start <= x <= start + width and low <= v <= high for x, v in points)
-            key = (hits, side, start_frac, y, align)
-            if best is None or key[:3] < best[:3]:
-                best = key
+        in_band = np.sort(points[(points[:, 1] >= low) & (points[:, 1] <= high), 0])
+        left = x0 + starts * (x1 - x0)
+        hits = np.searchsorted(in_band, left + width, "right") - np.searchsorted(in_band, left)
+        k = int(np.argmin(hits))  # the first (leftmost) of the fewest
+        key = (int(hits[k]), side, float(starts[k]), y, align)
+        if best is None or key[:3] < best[:3]:
+            best = key
     if best is None:
-        return 0.01, limit, "bottom"
-    return best[2], best[3], best[4]
+        return 0.01, limit, "bottom", len(points)
+    return best[2], best[3], best[4], best[0]
 
 
 def _draw_limit(
@@ -270,15 +294,21 @@ def _draw_limit(
     assert fig is not None
     box = ax.get_position()
     fig_w, fig_h = fig.get_size_inches()
-    size_frac = (
-        (len(label) * 0.55 * (FONT_PT - 0.5) / 72 + 0.1) / (box.width * fig_w),
-        ((FONT_PT - 0.5) * 1.5 / 72) / (box.height * fig_h),
-    )
-    x, y, align = _label_spot(ax, curves, limit, size_frac)
+    choices = []
+    for text in (label, label.replace("; ", "\n")):  # one line, else two narrower lines
+        lines = text.split("\n")
+        size_frac = (
+            (max(map(len, lines)) * 0.62 * (FONT_PT - 0.5) / 72 + 0.1) / (box.width * fig_w),
+            (len(lines) * (FONT_PT - 0.5) * 1.6 / 72) / (box.height * fig_h),
+        )
+        choices.append((*_label_spot(ax, curves, limit, size_frac), text))
+        if choices[-1][3] == 0:
+            break
+    x, y, align, _, text = min(choices, key=lambda c: c[3])
     ax.text(
         x,
         y,
-        label,
+        text,
         transform=ax.get_yaxis_transform(),
         verticalalignment=align,
         fontsize=FONT_PT - 0.5,
@@ -291,9 +321,7 @@ def _time_ticks(span: tuple[float, float], placed_at: datetime | None) -> tuple[
     days for long forecasts; 6 or 12 h for short ones), at local midnights for a stored pour."""
     start, end = span
     length = max(end - start, 1e-9)
-    major = next(
-        (s for s in (6.0, 12.0, 24.0, 48.0, 168.0, 336.0) if length / s <= 9), 672.0
-    )
+    major = next((s for s in (6.0, 12.0, 24.0, 48.0, 168.0, 336.0) if length / s <= 9), 672.0)
     minor = {6.0: 1.0, 12.0: 3.0, 24.0: 6.0, 48.0: 12.0, 168.0: 24.0}.get(major, 168.0)
     shift = 0.0
     if placed_at is not None:
@@ -305,8 +333,10 @@ def _time_ticks(span: tuple[float, float], placed_at: datetime | None) -> tuple[
     for h in majors:
         if placed_at is not None:
             moment = placed_at + timedelta(hours=h)
-            top = f"{moment:%a %d %b}" if moment.hour == 0 and moment.minute == 0 else (
-                f"{moment:%H:%M}"
+            top = (
+                f"{moment:%a %d %b}"
+                if moment.hour == 0 and moment.minute == 0
+                else (f"{moment:%H:%M}")
             )
             labels.append(f"{top}\n{_number_text(h)} h")
         else:
@@ -434,12 +464,12 @@ def _marks(axes: Sequence[Axes], options: ChartOptions, span: tuple[float, float
             ax.axvline(now, **NOW_STYLE)
         top.text(
             now,
-            0.97,
-            f"now {when_text(now, options.placed_at)} ",
+            0.03,
+            f" now {when_text(now, options.placed_at)}",
             transform=top.get_xaxis_transform(),
             rotation=90,
-            verticalalignment="top",
-            horizontalalignment="right",
+            verticalalignment="bottom",
+            horizontalalignment="left",
             fontsize=FONT_PT - 1.5,
             bbox=LABEL_BOX,
         )

@@ -149,7 +149,9 @@ def _mix_rows(scenario: ScenarioIn, body: dict[str, Any]) -> list[tuple[str, str
             "Mix",
             f"cement {mix.cement_kg_m3:g}, fly ash {mix.fly_ash_kg_m3:g}, slag "
             f"{mix.slag_kg_m3:g}, water {mix.water_kg_m3:g} kg/m3 (w/cm "
-            f"{mix.water_kg_m3 / binder:.2f})" if binder else "no cementitious material",
+            f"{mix.water_kg_m3 / binder:.2f})"
+            if binder
+            else "no cementitious material",
         )
     ]
     if mix.aggregate_kg_m3 is not None:
