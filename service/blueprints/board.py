@@ -143,6 +143,14 @@ def _headers(response: Response) -> Response:
     return response
 
 
+@bp.app_template_filter("one")
+def _one_decimal(value: float | None) -> str:
+    """A number to one decimal without float noise (``-`` when missing)."""
+    if value is None:
+        return "-"
+    return f"{value:.1f}".rstrip("0").rstrip(".")
+
+
 def _safe_next(target: str | None) -> str:
     """Only a path on the board itself (no open redirect)."""
     if target and target.startswith("/board") and "//" not in target and "\\" not in target:
@@ -278,6 +286,8 @@ def _pour_row(pour: dict[str, Any], page_start: float) -> dict[str, Any]:
             "when": _clock(local, peak["hours"]),
         },
         "next_removal": _next_removal(pour, now_h),
+        "status_time": status
+        and f"{store.parse_stored(status['computed_at']):%d %b %H:%M} UTC",
         "error": error,
     }
 
