@@ -255,7 +255,10 @@ def _screening_rows(summary: dict[str, Any]) -> list[tuple[str, str]]:
     rows = []
     strength = summary.get("strength")
     if strength:
-        rows.append(("Strength relation", str(strength.get("relation", "-"))))
+        relation = strength.get("relation", "-")
+        if isinstance(relation, dict):
+            relation = ", ".join(f"{k} {_num(v)}" for k, v in relation.items())
+        rows.append(("Strength relation", str(relation)))
         for target in strength.get("targets", []):
             reached = target.get("reached_h") or {}
             rows.append(
@@ -311,7 +314,7 @@ def render_report(
     name = options.title or scenario.name or "Unnamed scenario"
     generated = datetime.now(UTC).strftime("%Y-%m-%d %H:%M UTC")
     out = io.BytesIO()
-    with rendering(), PdfPages(out, keep_empty=False) as pdf:
+    with rendering(), PdfPages(out) as pdf:
         info = pdf.infodict()
         info.update(
             {"Title": f"Thermal forecast: {name}", "Subject": "Concrete temperature forecast"}

@@ -166,6 +166,19 @@ def test_pour_page_shows_chart_readings_calibration_removals_and_cautions(board)
     assert client.get("/board/pours/nope").status_code == 404
 
 
+def test_pour_without_readings_shows_its_planned_forecast(tmp_path):
+    client = create_app({"TESTING": True, "DATABASE": str(tmp_path / "p.sqlite3")}).test_client()
+    placed = datetime.now(UTC).replace(microsecond=0).isoformat()
+    created = client.post(
+        "/v1/pours", json={"name": "New", "placed_at": placed, "scenario": _scenario()}
+    )
+    page = client.get(f"/board/pours/{created.get_json()['id']}")
+    assert page.status_code == 200
+    assert "no readings yet: this is the planned forecast" in page.text
+    assert "No readings yet." in page.text
+    assert "logger silent" in client.get("/board").text  # nothing heard from the logger
+
+
 def _locked_app(tmp_path, **settings):
     return create_app(
         {

@@ -286,8 +286,7 @@ def _pour_row(pour: dict[str, Any], page_start: float) -> dict[str, Any]:
             "when": _clock(local, peak["hours"]),
         },
         "next_removal": _next_removal(pour, now_h),
-        "status_time": status
-        and f"{store.parse_stored(status['computed_at']):%d %b %H:%M} UTC",
+        "status_time": status and f"{store.parse_stored(status['computed_at']):%d %b %H:%M} UTC",
         "error": error,
     }
 
