@@ -4,7 +4,7 @@ headless Chromium driven over the DevTools protocol loads the pages from a runni
 
 Readings are made by the model itself (the planned forecast of each pour plus an offset), so
 every number on the pages comes from a real calibration. Screenshots go to pytest's tmp_path;
-with ``POURHEAT_SCREENSHOTS_DIR=docs/screenshots`` they are also copied there (README images).
+with ``POURHEAT_SCREENSHOTS_DIR=docs/screenshots`` small copies go there (README images).
 """
 
 import base64
@@ -12,7 +12,6 @@ import copy
 import json
 import os
 import re
-import shutil
 import signal
 import socket
 import subprocess
@@ -29,7 +28,7 @@ import requests
 from service.app import create_app
 from service.blueprints.board import COOKIE
 from service.convert import CAUTIONS
-from tests.conftest import CONTRACT_SCENARIO, require_program
+from tests.conftest import CONTRACT_SCENARIO, keep_artefact, require_program
 
 REPO = Path(__file__).resolve().parents[1]
 MARKUP_NAME = "<script>alert(1)</script><b>x</b>"
@@ -388,14 +387,6 @@ class DevTools:
         self.log.close()
 
 
-def _keep(path: Path) -> None:
-    """Copy a screenshot to POURHEAT_SCREENSHOTS_DIR when set (README images)."""
-    folder = os.environ.get("POURHEAT_SCREENSHOTS_DIR")
-    if folder:
-        Path(folder).mkdir(parents=True, exist_ok=True)
-        shutil.copy(path, Path(folder) / path.name)
-
-
 def test_board_in_a_browser(served, tmp_path):
     """Chromium shows the status words, loads the chart image, shows a name holding markup as
     text (no script runs, no dialog opens) and fits a phone's width; screenshots are saved."""
@@ -439,4 +430,4 @@ def test_board_in_a_browser(served, tmp_path):
     (tmp_path / "chart-pour.png").write_bytes(chart.content)
     for name in ("board.png", "board-pour.png", "board-phone.png", "chart-pour.png"):
         assert (tmp_path / name).read_bytes().startswith(b"\x89PNG")
-        _keep(tmp_path / name)
+        keep_artefact(tmp_path / name)

@@ -4,9 +4,7 @@ Page images go to pytest's tmp_path; with ``POURHEAT_SCREENSHOTS_DIR`` set the f
 the chart page are also copied there (README images)."""
 
 import copy
-import os
 import re
-import shutil
 import subprocess
 from datetime import UTC, datetime, timedelta
 from pathlib import Path
@@ -14,7 +12,7 @@ from pathlib import Path
 from service.convert import CAUTIONS
 from service.report import render_report
 from service.schemas import ScenarioIn
-from tests.conftest import require_program
+from tests.conftest import keep_artefact, require_program
 
 NAME = "Mat D <east> & $x$"
 
@@ -89,14 +87,7 @@ def test_forecast_report_has_inputs_summary_screening_and_cautions(
     assert "Max temperature limit 70 °C" in flat
     assert "top insulation off at 72 h (day 3, 00:00)" in flat
     for page in sorted(tmp_path.glob("report-*.png"))[:2]:
-        _keep(page, f"report-page{page.stem.rsplit('-', 1)[1].lstrip('0')}.png")
-
-
-def _keep(path: Path, name: str) -> None:
-    folder = os.environ.get("POURHEAT_SCREENSHOTS_DIR")
-    if folder:
-        Path(folder).mkdir(parents=True, exist_ok=True)
-        shutil.copy(path, Path(folder) / name)
+        keep_artefact(page, f"report-page{page.stem.rsplit('-', 1)[1].lstrip('0')}.png")
 
 
 def test_report_lists_the_forecasts_assumptions(contract_scenario, client, tmp_path):
