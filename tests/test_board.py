@@ -167,7 +167,7 @@ def test_pour_page_shows_chart_readings_calibration_removals_and_cautions(board)
 
 def test_pour_without_readings_shows_its_planned_forecast(tmp_path):
     client = create_app({"TESTING": True, "DATABASE": str(tmp_path / "p.sqlite3")}).test_client()
-    placed = datetime.now(UTC).replace(microsecond=0).isoformat()
+    placed = (datetime.now(UTC).replace(microsecond=0) - timedelta(hours=3)).isoformat()
     created = client.post(
         "/v1/pours", json={"name": "New", "placed_at": placed, "scenario": _scenario()}
     )
@@ -175,7 +175,36 @@ def test_pour_without_readings_shows_its_planned_forecast(tmp_path):
     assert page.status_code == 200
     assert "no readings yet: this is the planned forecast" in page.text
     assert "No readings yet." in page.text
-    assert "logger silent" in client.get("/board").text  # nothing heard from the logger
+    assert "logger silent" in client.get("/board").text  # placed 3 h ago, nothing heard
+
+
+def test_sensor_id_with_tex_markup_charts_as_plain_text(tmp_path):
+    """A sensor id like ``$\\frac{$`` once made the pour's chart a 500 (matplotlib parsed it as
+    math text); it is drawn as it is."""
+    client = create_app({"TESTING": True, "DATABASE": str(tmp_path / "t.sqlite3")}).test_client()
+    odd = "$\\frac{$"
+    scenario = _scenario()
+    scenario["sensors"] = [{"id": odd, "depth_m": 1.0}]
+    placed = datetime.now(UTC).replace(microsecond=0) - timedelta(hours=6)
+    created = client.post(
+        "/v1/pours", json={"name": "Tex", "placed_at": placed.isoformat(), "scenario": scenario}
+    )
+    pour_id = created.get_json()["id"]
+    rows = [
+        {"time": (placed + timedelta(hours=h)).isoformat(), "sensor": odd, "temperature_c": 20 + h}
+        for h in range(1, 6)
+    ]
+    assert client.post(f"/v1/pours/{pour_id}/readings", json={"readings": rows}).status_code == 200
+    for path in (f"/v1/pours/{pour_id}/forecast?format=svg", f"/board/pours/{pour_id}/chart.svg"):
+        chart = client.get(path)
+        assert chart.status_code == 200
+        texts = [
+            "".join(t.itertext())
+            for t in ET.fromstring(chart.data).iter()
+            if t.tag.endswith("text")
+        ]
+        assert f"Sensor {odd}" in texts
+    assert client.get(f"/v1/pours/{pour_id}/forecast?format=png").status_code == 200
 
 
 def _locked_app(tmp_path, **settings):

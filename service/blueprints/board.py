@@ -220,15 +220,16 @@ def _forecast(pour: dict[str, Any], readings: list[dict[str, Any]], deadline: fl
     return body
 
 
-def _states(status: dict[str, Any] | None, reading_age_h: float | None) -> list[str]:
-    """Every state that applies, worst first (see STATES)."""
+def _states(status: dict[str, Any] | None, reading_age_h: float | None, now_h: float) -> list[str]:
+    """Every state that applies, worst first (see STATES); with no reading at all the logger
+    counts as silent once the pour is older than the silence threshold."""
     silent_after = float(current_app.config.get("BOARD_SILENT_AFTER_H", DEFAULT_SILENT_AFTER_H))
     states = []
     if status is not None and status.get("limit_measured_exceeded"):
         states.append("measured")
     if status is not None and status.get("limit_forecast_exceeded"):
         states.append("forecast")
-    if reading_age_h is None or reading_age_h > silent_after:
+    if (reading_age_h if reading_age_h is not None else now_h) > silent_after:
         states.append("silent")
     if status is None:
         states.append("unknown")
@@ -277,7 +278,7 @@ def _pour_row(pour: dict[str, Any], page_start: float) -> dict[str, Any]:
         "pour": pour,
         "placed": f"{local:%a %d %b %Y %H:%M} ({local:%z})",
         "status": status,
-        "states": [(s, *STATES[s]) for s in _states(status, age_h)],
+        "states": [(s, *STATES[s]) for s in _states(status, age_h, now_h)],
         "age": None if age_h is None else _age_text(age_h),
         "peak": peak
         and {
