@@ -313,6 +313,7 @@ def _draw_limit(
         verticalalignment=align,
         fontsize=FONT_PT - 0.5,
         bbox=LABEL_BOX,
+        zorder=6,  # over the removal and "now" labels where they cross
     )
 
 
