@@ -13,7 +13,7 @@ from typing import Any
 from flask import Flask
 
 from service import auth, errors, limits, parallel, store
-from service.blueprints import forecasts, health, meta, monitoring, plans, pours
+from service.blueprints import board, forecasts, health, meta, monitoring, plans, pours
 from service.forecasting import DEFAULT_MAX_CELL_STEPS
 from service.limits import (
     DEFAULT_FORECAST_TIMEOUT_S,
@@ -67,4 +67,5 @@ def create_app(test_config: dict[str, Any] | None = None) -> Flask:
     app.register_blueprint(plans.bp)
     app.register_blueprint(pours.bp)
     app.register_blueprint(monitoring.bp)
+    app.register_blueprint(board.bp)
     return app

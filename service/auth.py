@@ -46,6 +46,9 @@ COMPUTE_ENDPOINTS = frozenset(
 )
 """POSTs that store nothing: reads for access control."""
 READ_METHODS = frozenset({"GET", "HEAD", "OPTIONS"})
+BOARD_PREFIX = "board."
+"""Endpoints of the site board (service/blueprints/board.py), which checks a bearer header or
+its signed cookie itself when reads need a token."""
 _B64TOKEN = re.compile(r"[A-Za-z0-9\-._~+/]+=*")
 """RFC 6750 b64token: the characters a bearer token may have."""
 MIN_TOKEN_CHARS = 16
@@ -124,6 +127,11 @@ def token_matches(given: str, digests: Iterable[bytes]) -> bool:
     return matched
 
 
+def is_configured_token(given: str, tokens: Iterable[str]) -> bool:
+    """Whether ``given`` is one of ``tokens`` (compared by digest in constant time)."""
+    return bool(given) and token_matches(given, [_digest(t) for t in sorted(tokens)])
+
+
 def _unauthorized(detail: str, error: str | None = None) -> Response:
     challenge = f'Bearer realm="{REALM}"'
     if error:
@@ -137,6 +145,8 @@ def needs_token(method: str, endpoint: str | None, reads_too: bool) -> bool:
     """Whether a request to ``endpoint`` with ``method`` needs a token (tokens configured)."""
     if endpoint is None or endpoint in OPEN_ENDPOINTS or method == "OPTIONS":
         return False
+    if endpoint.startswith(BOARD_PREFIX):
+        return False  # the board checks a bearer header or its own cookie
     is_write = method not in READ_METHODS and endpoint not in COMPUTE_ENDPOINTS
     return is_write or reads_too
 

@@ -66,6 +66,140 @@ AUTH_NOTE = (
 )
 
 
+SIZE_PARAMETER = {
+    "name": "size",
+    "in": "query",
+    "required": False,
+    "description": "Chart size: screen (PNG 910 px wide) or a4 (PNG at 300 dpi across an A4 "
+    "page's text width); SVG is the same drawing",
+    "schema": {"type": "string", "enum": ["screen", "a4"]},
+    "example": "screen",
+}
+PDF_CONTENT = {
+    "application/pdf": {"schema": {"type": "string", "contentMediaType": "application/pdf"}}
+}
+HTML = {"text/html": {"schema": {"type": "string"}}}
+TEXT = {"text/plain": {"schema": {"type": "string"}}}
+BOARD_NOTE = (
+    " HTML for people (server-rendered, refreshes itself). When reads need a token, a browser "
+    "signs in at /board/login and gets a signed cookie for the board."
+)
+
+
+def _board_paths() -> dict[str, Any]:
+    """The site board's HTML pages, chart images and report."""
+    found = {"description": "No such pour", "content": PROBLEM}
+    page = {"description": "The page", "content": HTML}
+    return {
+        "/board": {
+            "get": {
+                "summary": "Site board: stored pours with their status",
+                "description": "Status in words and colour, age of the newest reading, peak "
+                "so far and forecast, next planned removal." + BOARD_NOTE,
+                "operationId": "boardIndex",
+                "responses": {"200": page, "303": {"description": "Sign in first"}},
+            }
+        },
+        "/board/pours/{pour_id}": {
+            "parameters": [POUR_ID],
+            "get": {
+                "summary": "Site board: one pour",
+                "description": "Chart, latest reading of each sensor, calibration, planned "
+                "removals and cautions." + BOARD_NOTE,
+                "operationId": "boardPour",
+                "responses": {
+                    "200": page,
+                    "303": {"description": "Sign in first"},
+                    "404": found,
+                },
+            },
+        },
+        "/board/pours/{pour_id}/chart.{fmt}": {
+            "parameters": [
+                POUR_ID,
+                {
+                    "name": "fmt",
+                    "in": "path",
+                    "required": True,
+                    "description": "svg or png",
+                    "schema": {"type": "string", "enum": ["svg", "png"]},
+                },
+            ],
+            "get": {
+                "summary": "Site board: the pour's chart",
+                "operationId": "boardChart",
+                "parameters": [SIZE_PARAMETER],
+                "responses": {
+                    "200": {
+                        "description": "The chart with the readings",
+                        "content": {
+                            "image/svg+xml": {"schema": {"type": "string"}},
+                            "image/png": {
+                                "schema": {"type": "string", "contentMediaType": "image/png"}
+                            },
+                        },
+                    },
+                    "401": {"description": "Sign in first", "content": TEXT},
+                    "404": found,
+                    **_problems(422, 503),
+                },
+            },
+        },
+        "/board/pours/{pour_id}/report.pdf": {
+            "parameters": [POUR_ID],
+            "get": {
+                "summary": "Site board: the pour's PDF report",
+                "operationId": "boardReport",
+                "responses": {
+                    "200": {"description": "The report", "content": PDF_CONTENT},
+                    "401": {"description": "Sign in first", "content": TEXT},
+                    "404": found,
+                    **_problems(422, 503),
+                },
+            },
+        },
+        "/board/login": {
+            "get": {
+                "summary": "Site board: sign-in form",
+                "operationId": "boardLoginForm",
+                "responses": {"200": page, "303": {"description": "No sign-in needed"}},
+            },
+            "post": {
+                "summary": "Site board: sign in with an API token",
+                "description": "A configured token sets a signed cookie (HttpOnly, "
+                "SameSite=Strict, Path=/board, Secure behind TLS) for BOARD_SESSION_HOURS.",
+                "operationId": "boardLogin",
+                "requestBody": {
+                    "required": True,
+                    "content": {
+                        "application/x-www-form-urlencoded": {
+                            "schema": {
+                                "type": "object",
+                                "properties": {
+                                    "token": {"type": "string"},
+                                    "next": {"type": "string"},
+                                },
+                                "required": ["token"],
+                            }
+                        }
+                    },
+                },
+                "responses": {
+                    "303": {"description": "Signed in (or no sign-in needed)"},
+                    "401": {"description": "Not a valid token", "content": HTML},
+                },
+            },
+        },
+        "/board/logout": {
+            "post": {
+                "summary": "Site board: sign out",
+                "operationId": "boardLogout",
+                "responses": {"303": {"description": "Signed out"}},
+            }
+        },
+    }
+
+
 def _problems(*codes: int) -> dict[str, Any]:
     reasons = {
         400: "Malformed JSON or not a JSON object",
@@ -261,10 +395,15 @@ def _pour_paths() -> dict[str, Any]:
                         "name": "format",
                         "in": "query",
                         "required": False,
-                        "description": "json, csv, svg or png",
-                        "schema": {"type": "string", "enum": ["json", "csv", "svg", "png"]},
+                        "description": "json, csv, svg or png (a chart with the readings), or "
+                        "pdf (a printable report)",
+                        "schema": {
+                            "type": "string",
+                            "enum": ["json", "csv", "svg", "png", "pdf"],
+                        },
                         "example": "svg",
                     },
+                    SIZE_PARAMETER,
                 ],
                 "responses": {
                     "200": {
@@ -276,6 +415,7 @@ def _pour_paths() -> dict[str, Any]:
                             "image/png": {
                                 "schema": {"type": "string", "contentMediaType": "image/png"}
                             },
+                            **PDF_CONTENT,
                         },
                     },
                     "404": {"description": "No such pour", "content": PROBLEM},
@@ -330,13 +470,15 @@ def build_spec() -> dict[str, Any]:
         },
         "image/svg+xml": {"schema": {"type": "string"}},
         "image/png": {"schema": {"type": "string", "contentMediaType": "image/png"}},
+        **PDF_CONTENT,
     }
     format_parameter = {
         "name": "format",
         "in": "query",
         "required": False,
-        "description": "Response format, instead of the Accept header",
-        "schema": {"type": "string", "enum": ["json", "csv", "svg", "png"]},
+        "description": "Response format, instead of the Accept header: pdf is a printable "
+        "report (inputs, summary against the limits, charts, screening, assumptions, cautions)",
+        "schema": {"type": "string", "enum": ["json", "csv", "svg", "png", "pdf"]},
         "example": "csv",
     }
     value_parameter = {
@@ -400,7 +542,7 @@ def build_spec() -> dict[str, Any]:
                     "description": "Runs the scenario and returns the summary, series and "
                     "cautions. " + CAUTION,
                     "operationId": "createForecast",
-                    "parameters": [UNITS_PARAMETER, format_parameter],
+                    "parameters": [UNITS_PARAMETER, format_parameter, SIZE_PARAMETER],
                     "requestBody": {
                         "required": True,
                         "content": {
@@ -428,6 +570,7 @@ def build_spec() -> dict[str, Any]:
                         *_query_parameters(),
                         value_parameter,
                         UNITS_PARAMETER,
+                        SIZE_PARAMETER,
                         {
                             **format_parameter,
                             "description": "Response format (default csv), "
@@ -507,6 +650,7 @@ def build_spec() -> dict[str, Any]:
                 }
             },
             **_pour_paths(),
+            **_board_paths(),
         },
         "components": {
             "schemas": definitions["$defs"],

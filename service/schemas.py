@@ -374,6 +374,14 @@ class CrackingIn(Strict):
 class ScenarioIn(Strict):
     """A forecast request."""
 
+    name: str | None = F(
+        "Name of the pour or scenario, shown on charts and reports",
+        "Mat A, north half",
+        min_length=1,
+        max_length=120,
+        pattern=r"^[^\x00-\x1f\x7f]*$",
+        default=None,
+    )
     element: ElementIn = F("Geometry of the placement")
     mix: MixIn = F("Mix proportions, hydration and thermal properties")
     placement: PlacementIn = F("Placement temperature and time of day")

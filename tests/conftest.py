@@ -76,3 +76,23 @@ def require_program(name: str, why: str) -> str:
             pytest.fail(message)
         pytest.skip(message)
     return path
+
+
+def keep_artefact(path, name: str | None = None, width_px: int = 800) -> None:
+    """Copy a test's screenshot to ``POURHEAT_SCREENSHOTS_DIR`` when that is set (the README's
+    images: ``POURHEAT_SCREENSHOTS_DIR=docs/screenshots make test``), scaled to at most
+    ``width_px`` and reduced to 128 colours so that the committed PNG stays small."""
+    folder = os.environ.get("POURHEAT_SCREENSHOTS_DIR")
+    if not folder:
+        return
+    from pathlib import Path
+
+    from PIL import Image  # Pillow comes with matplotlib
+
+    target = Path(folder) / (name or Path(path).name)
+    target.parent.mkdir(parents=True, exist_ok=True)
+    with Image.open(path) as image:
+        image = image.convert("RGB")
+        if image.width > width_px:
+            image = image.resize((width_px, round(image.height * width_px / image.width)))
+        image.quantize(colors=128).save(target, optimize=True)

@@ -55,13 +55,30 @@ EXPENSIVE = {
     "createComparison",
     "forecastPour",
     "pourStatus",
+    "boardIndex",
+    "boardPour",
+    "boardChart",
+    "boardReport",
 }
 """Operations that run whole forecasts."""
 EXAMPLES = {"cheap": 40, "expensive": 12}
 """Positive examples per operation in this test file (negative: half)."""
-FEWER = {"forecastPour": 6, "pourStatus": 6}
+FEWER = {
+    "forecastPour": 6,
+    "pourStatus": 6,
+    "boardIndex": 3,
+    "boardPour": 4,
+    "boardReport": 3,
+    "boardChart": 4,
+}
 """Calibrations of the stored pour (about 1.5 s each) over a small input space."""
-NOTHING_TO_NEGATE = {"healthz", "showPour", "archivePour", "pourStatus"}
+NOTHING_TO_NEGATE = {"healthz", "showPour", "archivePour", "pourStatus"} | {
+    "boardIndex",
+    "boardPour",
+    "boardReport",
+    "boardLoginForm",
+    "boardLogout",
+}
 """Operations without an input schemathesis can make invalid (no body, no query parameters;
 ``pour_id`` is any string and is drawn from the stored ids): negative generation is
 unsatisfiable for them, so they run with valid data only, the unknown pour id included."""

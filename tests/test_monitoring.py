@@ -95,7 +95,7 @@ def test_status_and_chart(client):
     assert status["limits_met"] is False
     chart = client.get(f"/v1/pours/{pour}/forecast?format=svg")
     assert chart.status_code == 200 and chart.data.startswith(b"<?xml")
-    assert b"Measured T1" in chart.data
+    assert b"Sensor T1" in chart.data
 
 
 def test_unknown_pour_is_404(client):

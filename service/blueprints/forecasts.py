@@ -1,8 +1,8 @@
 """/v1/forecasts: POST a JSON scenario, or GET flat query parameters (spreadsheet web query).
 
-Responses: JSON by default; the series as CSV, or a chart as SVG or PNG, by the Accept header or
-``?format=``; one summary number as text/plain with ``?value=`` on GET; US customary units with
-``?units=us``.
+Responses: JSON by default; the series as CSV, a chart as SVG or PNG (``?size=screen|a4``), or
+a printable PDF report, by the Accept header or ``?format=``; one summary number as text/plain
+with ``?value=`` on GET; US customary units with ``?units=us`` (the PDF report is in SI units).
 """
 
 from typing import Any
@@ -15,6 +15,7 @@ from service.errors import InvalidScenarioError
 from service.forecasting import run_forecast
 from service.limits import request_deadline
 from service.negotiation import choose_format, requested_units
+from service.schemas import ScenarioIn
 from service.spreadsheet import SpreadsheetQueryIn
 
 bp = Blueprint("forecasts", __name__)
@@ -24,13 +25,15 @@ MEDIA_TYPES = {
     "csv": "text/csv",
     "svg": "image/svg+xml",
     "png": "image/png",
+    "pdf": "application/pdf",
 }
 SHAPE_DIMENSIONS = {
     "slab": ("thickness_m",),
     "section": ("width_m", "height_m"),
     "block": ("length_m", "width_m", "height_m"),
 }
-CONTROL_PARAMETERS = ("units", "format", "value")
+CONTROL_PARAMETERS = ("units", "format", "value", "size")
+CHART_SIZES = ("screen", "a4")
 PLAIN = {"text": "text/plain"}
 """What ``?value=`` answers."""
 
@@ -38,6 +41,7 @@ PLAIN = {"text": "text/plain"}
 @bp.before_request
 def _units() -> None:
     requested_units()  # sets g.units
+    chart_size()  # a bad size is refused before any computing
 
 
 def _caution_header(body: dict[str, Any] | None = None) -> dict[str, str]:
@@ -61,9 +65,37 @@ def _caution_header(body: dict[str, Any] | None = None) -> dict[str, str]:
     return headers
 
 
-def _render(body: dict[str, Any], fmt: str) -> Response:
+def chart_size() -> str:
+    """The ``size`` query parameter of a chart (``screen`` by default), or a 422 naming it."""
+    size = request.args.get("size", "screen")
+    if size not in CHART_SIZES:
+        raise InvalidScenarioError(
+            [{"field": "size", "message": f"expected one of {list(CHART_SIZES)}"}]
+        )
+    return size
+
+
+def _render(scenario_in: ScenarioIn, body: dict[str, Any], fmt: str) -> Response:
     """The forecast body in the requested format and units."""
     us = g.units == "us"
+    if fmt in ("svg", "png", "pdf"):
+        try:
+            from service.charts import ChartOptions, removal_marks
+        except ImportError as error:  # the optional [plot] extra is not installed
+            raise NotAcceptable("charts need matplotlib: install pourheat[plot]") from error
+        options = ChartOptions(
+            title=scenario_in.name,
+            removals=removal_marks(scenario_in.model_dump()),
+            size=chart_size(),
+        )
+    if fmt == "pdf":
+        from service.report import render_report
+
+        return Response(
+            render_report(scenario_in, body, options=options),
+            mimetype=MEDIA_TYPES[fmt],
+            headers={"Content-Disposition": 'inline; filename="forecast.pdf"'},
+        )
     if fmt == "csv":
         text = forecast_csv(body)
         if us:
@@ -78,12 +110,10 @@ def _render(body: dict[str, Any], fmt: str) -> Response:
         shown = body_to_us(body)
     if fmt == "json":
         return jsonify(shown)
-    try:
-        from service.charts import render_chart
-    except ImportError as error:  # the optional [plot] extra is not installed
-        raise NotAcceptable("charts need matplotlib: install pourheat[plot]") from error
+    from service.charts import render_chart
+
     return Response(
-        render_chart(shown, fmt, units=g.units),
+        render_chart(shown, fmt, units=g.units, options=options),
         mimetype=MEDIA_TYPES[fmt],
         headers=_caution_header(body),
     )
@@ -104,10 +134,10 @@ def create_forecast() -> Response:
     payload = request.get_json(silent=True)
     if payload is None:
         raise BadRequest("the body must be a JSON object (Content-Type: application/json)")
-    _, body = run_forecast(
+    scenario_in, body = run_forecast(
         _to_si(payload), current_app.config["MAX_CELL_STEPS"], request_deadline()
     )
-    return _render(body, fmt)
+    return _render(scenario_in, body, fmt)
 
 
 def _query_values() -> dict[str, Any]:
@@ -138,11 +168,11 @@ def query_forecast() -> Response:
         raise InvalidScenarioError(
             [{"field": n, "message": f"required for shape {query.shape}"} for n in missing]
         )
-    _, body = run_forecast(
+    scenario_in, body = run_forecast(
         query.scenario_payload(), current_app.config["MAX_CELL_STEPS"], request_deadline()
     )
     if value is None:
-        return _render(body, fmt)
+        return _render(scenario_in, body, fmt)
     summary = body["summary"]
     if g.units == "us":
         from service.units import body_to_us

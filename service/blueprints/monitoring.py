@@ -7,6 +7,7 @@ from flask import Blueprint, Response, current_app, jsonify, request
 from werkzeug.exceptions import NotFound
 
 from service import units
+from service.blueprints.forecasts import chart_size
 from service.convert import forecast_csv
 from service.limits import request_deadline
 from service.monitoring import pour_forecast, pour_status
@@ -20,8 +21,11 @@ MEDIA_TYPES = {
     "csv": "text/csv",
     "svg": "image/svg+xml",
     "png": "image/png",
+    "pdf": "application/pdf",
 }
 """Formats of a pour's forecast."""
+CHART_MEDIA = {k: v for k, v in MEDIA_TYPES.items() if k in ("svg", "png", "pdf")}
+"""Chart and report formats of a stored pour's forecast."""
 
 
 def _pour_and_readings(pour_id: str) -> tuple[dict[str, Any], list[dict[str, Any]]]:
@@ -41,26 +45,58 @@ def _body(pour: dict[str, Any], readings: list[dict[str, Any]]) -> dict[str, Any
 
 @bp.get("/v1/pours/<pour_id>/forecast")
 def forecast_pour(pour_id: str) -> Response:
-    """Calibrate to the readings so far and forecast ahead; JSON, CSV, SVG or PNG; SI or, with
-    ``units=us``, US customary units."""
+    """Calibrate to the readings so far and forecast ahead; JSON, CSV, SVG, PNG (``?size=``)
+    or a PDF report; SI or, with ``units=us``, US customary units (the PDF report is in SI)."""
     us = requested_units() == "us"
     fmt = choose_format(MEDIA_TYPES, "json")
     pour, readings = _pour_and_readings(pour_id)
+    if fmt in CHART_MEDIA:
+        chart_size()  # a bad size is refused before any computing
     body = _body(pour, readings)
     if fmt == "csv":
         text = forecast_csv(body)
         return Response(units.csv_to_us(text) if us else text, mimetype="text/csv")
-    shown = units.body_to_us(body) if us else body
-    if fmt in ("svg", "png"):
-        from service.charts import render_chart
+    if fmt in CHART_MEDIA:
+        return pour_chart_response(pour, readings, body, fmt, chart_size(), us)
+    return jsonify(units.body_to_us(body) if us else body)
 
-        measured: dict[str, list[tuple[float, float]]] = {}
-        for r in readings:
+
+def pour_chart_response(
+    pour: dict[str, Any],
+    readings: list[dict[str, Any]],
+    body: dict[str, Any],
+    fmt: str,
+    size: str = "screen",
+    us: bool = False,
+) -> Response:
+    """A stored pour's forecast as a chart (svg, png; in US units if ``us``) or a PDF report
+    (SI), with its readings."""
+    from service.charts import pour_options, render_chart
+
+    us = us and fmt != "pdf"
+    measured: dict[str, list[tuple[float, float]]] = {}
+    for r in readings:
+        if r["sensor"] != "air":
             temperature = r["temperature_c"] * 1.8 + 32.0 if us else r["temperature_c"]
             measured.setdefault(r["sensor"], []).append((r["hours"], temperature))
-        chart = render_chart(shown, fmt, measured=measured, units="us" if us else "si")
-        return Response(chart, mimetype=MEDIA_TYPES[fmt])
-    return jsonify(shown)
+    options = pour_options(pour, size)
+    if fmt == "pdf":
+        from service.report import render_report
+        from service.schemas import ScenarioIn
+
+        pdf = render_report(
+            ScenarioIn.model_validate(pour["scenario"]), body, measured, options, pour
+        )
+        return Response(
+            pdf,
+            mimetype=CHART_MEDIA[fmt],
+            headers={"Content-Disposition": f'inline; filename="pour-{pour["id"]}.pdf"'},
+        )
+    shown = units.body_to_us(body) if us else body
+    chart = render_chart(
+        shown, fmt, measured=measured, units="us" if us else "si", options=options
+    )
+    return Response(chart, mimetype=CHART_MEDIA[fmt])
 
 
 @bp.get("/v1/pours/<pour_id>/status")
