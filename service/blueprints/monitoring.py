@@ -93,9 +93,7 @@ def pour_chart_response(
             headers={"Content-Disposition": f'inline; filename="pour-{pour["id"]}.pdf"'},
         )
     shown = units.body_to_us(body) if us else body
-    chart = render_chart(
-        shown, fmt, measured=measured, units="us" if us else "si", options=options
-    )
+    chart = render_chart(shown, fmt, measured=measured, units="us" if us else "si", options=options)
     return Response(chart, mimetype=CHART_MEDIA[fmt])
 
 
