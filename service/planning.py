@@ -1,7 +1,6 @@
 """Planning and comparison requests: solve for controls, and compare variants of a scenario."""
 
 import copy
-import csv
 import io
 from dataclasses import asdict
 from functools import partial
@@ -19,6 +18,7 @@ from model.precooling import (
 from model.scenario import Scenario
 from model.solver import forecast
 from service.convert import CAUTIONS
+from service.csvout import SafeCsvWriter
 from service.errors import InvalidScenarioError, validation_errors
 from service.forecasting import check_budget, run_forecast, validated_scenario
 from service.parallel import map_in_processes
@@ -174,11 +174,9 @@ def run_comparison(
 
 
 def comparison_csv(body: dict[str, Any]) -> str:
-    """The comparison rows as CSV."""
+    """The comparison rows as CSV (variant names made spreadsheet-safe)."""
     out = io.StringIO()
-    writer = csv.DictWriter(
-        out, fieldnames=COMPARISON_COLUMNS, extrasaction="ignore", lineterminator="\n"
-    )
-    writer.writeheader()
-    writer.writerows(body["rows"])
+    writer = SafeCsvWriter(out)
+    writer.writerow(COMPARISON_COLUMNS)
+    writer.writerows([row.get(c, "") for c in COMPARISON_COLUMNS] for row in body["rows"])
     return out.getvalue()

@@ -25,6 +25,8 @@ import math
 from collections.abc import Callable, Mapping
 from typing import Any, NamedTuple
 
+from service.csvout import SafeCsvWriter
+
 # --- Conversion factors: SI units per US customary unit -------------------------------------
 
 FOOT_M = 0.3048
@@ -503,7 +505,7 @@ def csv_to_us(csv_text: str) -> str:
     rules = [_csv_rule(name) for name in header]
     walk = _Walk(to_us=True, digits=DIGITS)
     out = io.StringIO()
-    writer = csv.writer(out, lineterminator="\n")
+    writer = SafeCsvWriter(out)
     writer.writerow([csv_header_to_us(name) for name in header])
     for row in rows[1:]:
         cells = []
