@@ -10,6 +10,20 @@ graceful_timeout = 30
 accesslog = "-"
 errorlog = "-"
 
+# Slow clients (README, "Security and limits"): each connection is a greenlet of a gevent
+# worker, so a client trickling its request holds no worker; it has POURHEAT_CLIENT_TIMEOUT_S
+# to send the request line and headers, and as long again for the body (408 past it), and an
+# idle kept-alive connection is closed after as long (service/serving.py).
+worker_class = "service.serving.BoundedGeventWorker"
+_client_timeout = os.environ.get("POURHEAT_CLIENT_TIMEOUT_S", "30")
+if not _client_timeout.isdigit() or not 1 <= int(_client_timeout) <= 600:
+    raise ValueError(
+        f"POURHEAT_CLIENT_TIMEOUT_S must be whole seconds from 1 to 600, got {_client_timeout!r}"
+    )
+keepalive = int(_client_timeout)
+# Query strings (where a careless client may put a token) never reach the access log.
+logger_class = "service.serving.AccessLogger"
+
 # Workers already use every core; BLAS threads inside a worker only contend with the others
 # (measured: the 3D benchmark block ran 1.7x slower with OpenBLAS's default threads).
 for _name in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):

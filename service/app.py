@@ -39,7 +39,7 @@ def _settings_from_environment() -> dict[str, Any]:
         "FORECAST_TIMEOUT_S": DEFAULT_FORECAST_TIMEOUT_S,
         "DATABASE": env.get("POURHEAT_DB", "pourheat.sqlite3"),
         "MAX_READINGS_PER_UPLOAD": DEFAULT_MAX_READINGS_PER_UPLOAD,
-        "AUTH_TOKENS": env.get("POURHEAT_TOKENS", ""),
+        "AUTH_TOKENS": env.get("POURHEAT_TOKENS"),  # None: unset; "" or " , ": refused
         "AUTH_TOKENS_FILE": env.get("POURHEAT_TOKENS_FILE") or None,
         "AUTH_READS": False,
         "CORS_ORIGINS": env.get("POURHEAT_CORS_ORIGINS", ""),

@@ -10,7 +10,11 @@ request that changes stored data needs ``Authorization: Bearer <token>``:
 - not the compute-only POSTs (``/v1/forecasts``, ``/v1/plans``, ``/v1/comparisons``), which
   store nothing and count as reads.
 
-With ``POURHEAT_AUTH_READS=true`` reads need a token too. ``/healthz``, ``/`` and
+With ``POURHEAT_AUTH_READS=true`` reads need a token too.
+
+Settings fail closed: ``POURHEAT_TOKENS`` set but holding no token (``''``, ``' , '``), or
+``POURHEAT_AUTH_READS=true`` with no token configured at all, stop the app at start-up with a
+message naming the setting, instead of starting an open service. ``/healthz``, ``/`` and
 ``/openapi.json`` stay open, as do CORS preflights (OPTIONS). A missing token is answered
 401 with ``WWW-Authenticate: Bearer realm="pourheat"``, a wrong one 401 with
 ``error="invalid_token"`` added (RFC 6750). Tokens are compared by their SHA-256 digests with
@@ -86,10 +90,16 @@ def read_tokens_file(path: str | os.PathLike[str]) -> list[str]:
 
 
 def load_tokens(tokens: Any, tokens_file: str | os.PathLike[str] | None) -> frozenset[str]:
-    """The configured tokens: those given (comma-separated or a collection) plus the file's.
-    A token with characters a bearer token cannot have is an error (it would never match);
-    the message says which position, never the token."""
+    """The configured tokens: those given (comma-separated or a collection; None when not set)
+    plus the file's. Tokens given but holding none (``''``, ``' , '``) are an error: the
+    operator asked for tokens. A token with characters a bearer token cannot have is an error
+    (it would never match); the message says which position, never the token."""
     found = _split(tokens)
+    if tokens is not None and not found:
+        raise ValueError(
+            "POURHEAT_TOKENS (AUTH_TOKENS) is set but holds no token: give comma-separated "
+            "tokens, or unset it for an open service"
+        )
     if tokens_file:
         found += read_tokens_file(tokens_file)
     for i, token in enumerate(found):
@@ -201,6 +211,10 @@ def init_app(app: Flask) -> None:
     config["AUTH_READS"] = parse_bool(
         config.get("AUTH_READS", False), "AUTH_READS (POURHEAT_AUTH_READS)"
     )
+    if config["AUTH_READS"] and not tokens:
+        raise ValueError(
+            "POURHEAT_AUTH_READS=true needs a token: set POURHEAT_TOKENS or POURHEAT_TOKENS_FILE"
+        )
     config["CORS_ORIGINS"] = frozenset(o.rstrip("/") for o in _split(config.get("CORS_ORIGINS")))
     short = sum(len(t) < MIN_TOKEN_CHARS for t in tokens)
     if short:

@@ -1,6 +1,5 @@
 """Converters between the HTTP schemas and the model: request -> Scenario, Forecast -> JSON/CSV."""
 
-import csv
 import io
 from dataclasses import asdict, replace
 from typing import Any
@@ -24,6 +23,7 @@ from model.scenario import (
 )
 from service import rounding
 from service.assumptions import assumptions, default_ground, mean_air_c
+from service.csvout import SafeCsvWriter
 from service.schemas import FaceIn, MixIn, ScenarioIn
 from service.screening_json import screening_parts
 
@@ -261,7 +261,7 @@ def forecast_csv(body: dict[str, Any]) -> str:
     series = body["series"]
     sensors = series["sensors"]
     out = io.StringIO()
-    writer = csv.writer(out, lineterminator="\n")
+    writer = SafeCsvWriter(out)
     columns = [*CSV_COLUMNS, *(c for c in OPTIONAL_CSV_COLUMNS if c in series)]
     writer.writerow([*columns, *(f"sensor_{name}_c" for name in sensors)])
     for i in range(len(series["time_h"])):

@@ -18,13 +18,19 @@ The length of an hourly list (``ambient.air_temperature_c``, ``wind_m_s``, ``sol
 fixed at :data:`MAX_HOURLY_VALUES` by the pydantic schemas (service/schemas.py), which answer a
 longer list with a 422 naming the field; it is not a setting.
 
-The hook registered here also refuses, before any endpoint parses it, a JSON body that is not
-UTF-8 (400) or whose top level is not an object (400): every JSON endpoint takes an object; and
-with a 422 naming each one, a JSON object that repeats a key (at any depth: RFC 8259 leaves the
-meaning open and parsers keep one of the values silently) and a query parameter given more than
-once (``?thickness_m=1&thickness_m=2``).
+The hooks registered here read every POST, PUT and PATCH body whole before any endpoint sees it
+(:func:`read_whole_body`): a body over ``MAX_CONTENT_LENGTH`` is refused with 413 whatever its
+transfer encoding (``Content-Length`` or ``Transfer-Encoding: chunked``), a body that ends early
+or is malformed gets 400, one the client takes too long to send 408 (the time bound itself is the
+server's: service/serving.py), so an endpoint only ever parses a complete body. They also refuse,
+before any endpoint parses it, a JSON body that is not UTF-8 (400) or whose top level is not an
+object (400): every JSON endpoint takes an object; and with a 422 naming each one, a JSON object
+that repeats a key (at any depth: RFC 8259 leaves the meaning open and parsers keep one of the
+values silently) and a query parameter given more than once (``?thickness_m=1&thickness_m=2``).
+Every response carries ``X-Content-Type-Options: nosniff``.
 """
 
+import io
 import json
 import re
 import time
@@ -59,6 +65,85 @@ _QUOTE = ord('"')
 BODY_METHODS = frozenset({"POST", "PUT", "PATCH"})
 """Methods whose JSON body an endpoint may parse."""
 _JSON_WHITESPACE = b" \t\r\n"
+READ_CHUNK_BYTES = 64 * 1024
+"""Bytes asked of the server's input stream at a time while reading a body."""
+
+
+class BodyRefusedError(Exception):
+    """A request body refused as a whole before any endpoint saw it; carries the problem."""
+
+    def __init__(self, response: Response) -> None:
+        super().__init__(response.status)
+        self.response = response
+
+
+def _too_large(limit: int) -> BodyRefusedError:
+    return BodyRefusedError(
+        problem(
+            413,
+            "Content Too Large",
+            f"the body is larger than {limit} bytes (POURHEAT_MAX_BODY_BYTES); nothing was "
+            "stored: split the upload",
+            [{"field": "(body)", "message": f"more than {limit} bytes"}],
+        )
+    )
+
+
+def read_whole_body(environ: dict[str, Any], limit: int) -> bytes:
+    """The whole body of a request, read from the server's input stream, at most ``limit``
+    bytes whatever the transfer encoding; :class:`BodyRefusedError` (413 too large, 408 too
+    slow, 400 cut short or malformed) otherwise. Afterwards ``environ`` holds the body as a
+    ``Content-Length`` stream of those bytes, so every later reader sees exactly them.
+
+    Werkzeug alone stops reading a chunked body at the limit and hands the truncated prefix
+    to the endpoint (a readings upload then stored half its rows, the last one cut
+    mid-number); reading one byte past the limit here tells a body over it apart."""
+    declared = environ.get("CONTENT_LENGTH") or None
+    expected: int | None = None
+    if declared is not None:
+        try:
+            expected = int(declared)
+        except ValueError:
+            raise BodyRefusedError(problem(400, "Bad Request", "bad Content-Length")) from None
+        if expected > limit:
+            raise _too_large(limit)
+    elif "wsgi.input_terminated" not in environ:
+        return b""  # no length and no chunked framing: there is no body (RFC 9112, 6.3)
+    stream = environ["wsgi.input"]
+    wanted = limit + 1 if expected is None else expected
+    chunks: list[bytes] = []
+    size = 0
+    try:
+        while size < wanted:
+            chunk = stream.read(min(READ_CHUNK_BYTES, wanted - size))
+            if not chunk:
+                break
+            chunks.append(chunk)
+            size += len(chunk)
+    except TimeoutError:
+        raise BodyRefusedError(
+            problem(408, "Request Timeout", "the body took too long to arrive; nothing was stored")
+        ) from None
+    except Exception:  # the server's reader: a disconnect, or malformed chunked framing
+        raise BodyRefusedError(
+            problem(400, "Bad Request", "the body was cut short or malformed; nothing was stored")
+        ) from None
+    if size > limit:
+        raise _too_large(limit)
+    if expected is not None and size < expected:
+        raise BodyRefusedError(
+            problem(
+                400,
+                "Bad Request",
+                f"the body ended after {size} of {expected} bytes; nothing was stored",
+            )
+        )
+    data = b"".join(chunks)
+    environ["wsgi.input"] = io.BytesIO(data)
+    environ["CONTENT_LENGTH"] = str(size)
+    environ.pop("HTTP_TRANSFER_ENCODING", None)
+    environ.pop("wsgi.input_terminated", None)
+    return data
 
 
 def json_depth(data: bytes, limit: int) -> int:
@@ -163,11 +248,20 @@ def _positive_number(value: Any, name: str) -> float:
     return number
 
 
+def _read_body() -> None:
+    """Read a POST, PUT or PATCH body whole (see :func:`read_whole_body`) into the request."""
+    if request.method not in BODY_METHODS:
+        return
+    read_whole_body(request.environ, int(current_app.config["MAX_CONTENT_LENGTH"]))
+    for cached in ("stream", "content_length"):  # Werkzeug's, if computed from the old input
+        request.__dict__.pop(cached, None)
+
+
 def _check_json_body(max_depth: int) -> Response | None:
     """Refuse a JSON body that is not UTF-8, not an object, or nested deeper than allowed."""
     if request.method not in BODY_METHODS or not request.is_json:
         return None
-    data = request.get_data(cache=True)  # raises 413 over MAX_CONTENT_LENGTH
+    data = request.get_data(cache=True)
     if not data:
         return None  # the endpoint says what it needed
     try:
@@ -221,9 +315,19 @@ def init_app(app: Flask) -> None:
         response.headers["Retry-After"] = str(RETRY_AFTER_S)
         return response
 
+    @app.errorhandler(BodyRefusedError)
+    def _body_refused(error: BodyRefusedError) -> Response:
+        return error.response
+
     @app.before_request
-    def _json_limits() -> Response | None:
+    def _body_limits() -> Response | None:
+        _read_body()
         return _check_query() or _check_json_body(int(app.config["MAX_JSON_DEPTH"]))
+
+    @app.after_request
+    def _no_sniffing(response: Response) -> Response:
+        response.headers["X-Content-Type-Options"] = "nosniff"
+        return response
 
 
 def request_deadline() -> float:

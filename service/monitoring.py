@@ -19,6 +19,11 @@ CALIBRATION_RUNS = {"slab": 40, "section": 65, "block": 65}
 """Typical number of whole forecasts a calibration takes, by shape (for the compute budget): 25
 to 45 measured for slabs (a batched Jacobian counts as one), about 50 to 65 for sections and
 blocks, whose Jacobians take one forecast per fitted parameter (tests/test_calibration.py)."""
+MAX_HORIZON_H = 2000.0
+"""Longest span from placement a stored pour's forecast and status compute [h]: the longest
+``duration_h`` a scenario may ask for (service/schemas.py). Readings later than this are kept
+and listed, but the calibration leaves them out (``calibration.readings_after_horizon``), so a
+pour placed long ago cannot make a status request forecast years."""
 CURRENT_WINDOW_H = 2.0
 """Readings this close to the latest one count as "current" in the status [h]."""
 
@@ -42,8 +47,14 @@ def pour_forecast(
     scenario_in, scenario, origin = validated_scenario(pour["scenario"])
     hours, sensors, temps = _arrays(readings)
     now_h = float(hours.max()) if hours.size else 0.0
-    if now_h + EXTRA_HORIZON_H > scenario.duration_h:
-        scenario = replace(scenario, duration_h=float(np.ceil(now_h + EXTRA_HORIZON_H)))
+    within = hours <= MAX_HORIZON_H
+    after_horizon = int(np.count_nonzero(~within))
+    hours, sensors, temps = hours[within], sensors[within], temps[within]
+    horizon_h = min(
+        max(scenario.duration_h, float(np.ceil(now_h + EXTRA_HORIZON_H))), MAX_HORIZON_H
+    )
+    if horizon_h > scenario.duration_h:
+        scenario = replace(scenario, duration_h=horizon_h)
     check_budget(scenario, max_cell_steps, CALIBRATION_RUNS[scenario.element.shape])
     concrete_readings = int(np.count_nonzero(sensors != AIR_SENSOR))
     calibration: dict[str, Any]
@@ -66,6 +77,12 @@ def pour_forecast(
     result = solve(scenario, deadline)
     body = forecast_json(scenario_in, scenario, result, origin)
     limits = scenario_in.limits
+    if after_horizon:
+        calibration["readings_after_horizon"] = after_horizon
+        calibration["note"] = (
+            f"{after_horizon} reading(s) later than {MAX_HORIZON_H:g} h after placement are "
+            "stored but not used: a forecast spans at most that"
+        )
     body["calibration"] = calibration
     body["now_h"] = round(now_h, 3)
     body["differential_limit_exceeded_h"] = result.first_time_above_h(

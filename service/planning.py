@@ -1,7 +1,6 @@
 """Planning and comparison requests: solve for controls, and compare variants of a scenario."""
 
 import copy
-import csv
 import io
 from dataclasses import asdict
 from functools import partial
@@ -20,6 +19,7 @@ from model.scenario import Scenario
 from model.solver import forecast
 from service import rounding
 from service.convert import CAUTIONS
+from service.csvout import SafeCsvWriter
 from service.errors import InvalidScenarioError, validation_errors
 from service.forecasting import check_budget, run_forecast, validated_scenario
 from service.parallel import Progress, run_many, tick
@@ -206,11 +206,12 @@ def run_comparison(
 
 
 def comparison_csv(body: dict[str, Any]) -> str:
-    """The comparison rows as CSV; booleans as JSON writes them (true/false)."""
+    """The comparison rows as CSV: booleans as JSON writes them (true/false), variant names made
+    spreadsheet-safe."""
     out = io.StringIO()
-    writer = csv.DictWriter(
-        out, fieldnames=COMPARISON_COLUMNS, extrasaction="ignore", lineterminator="\n"
+    writer = SafeCsvWriter(out)
+    writer.writerow(COMPARISON_COLUMNS)
+    writer.writerows(
+        [rounding.csv_cell(row.get(c, "")) for c in COMPARISON_COLUMNS] for row in body["rows"]
     )
-    writer.writeheader()
-    writer.writerows({k: rounding.csv_cell(v) for k, v in row.items()} for row in body["rows"])
     return out.getvalue()

@@ -5,9 +5,10 @@ back as a 422 naming the field instead of being silently ignored. Checks that in
 fields live in :mod:`service.checks`. Descriptions and examples here are the OpenAPI contract's.
 """
 
+import re
 from typing import Annotated, Any, Literal
 
-from pydantic import BaseModel, ConfigDict, Field
+from pydantic import AfterValidator, BaseModel, ConfigDict, Field, field_validator
 
 
 def F(description: str, example: Any = None, **constraints: Any) -> Any:  # noqa: N802
@@ -15,6 +16,29 @@ def F(description: str, example: Any = None, **constraints: Any) -> Any:  # noqa
     examples = None if example is None else [example]
     return Field(description=description, examples=examples, **constraints)
 
+
+CONTROL_CHARACTERS = re.compile("[\x00-\x1f\x7f-\x9f]")
+"""C0 and C1 control characters, DEL among them (tab, CR and LF too)."""
+NO_CONTROL_CHARACTERS = "^[^\\u0000-\\u001f\\u007f-\\u009f]*$"
+"""The same rule as a JSON Schema pattern, for the contract."""
+
+
+def no_control_characters(value: str) -> str:
+    """``value`` if it holds no control character (see :data:`CONTROL_CHARACTERS`): ids and
+    names go into CSV exports, logs and charts, where a CR, LF or tab breaks rows."""
+    if CONTROL_CHARACTERS.search(value):
+        raise ValueError("control characters (tab, CR, LF, DEL, C0 and C1) are not allowed")
+    return value
+
+
+Label = Annotated[
+    str,
+    AfterValidator(no_control_characters),
+    Field(json_schema_extra={"pattern": NO_CONTROL_CHARACTERS}),
+]
+"""A sensor id, pour name or variant name: text without control characters."""
+RESERVED_VARIANT_NAMES = frozenset({"base"})
+"""Names a comparison variant cannot take: ``base`` is the base scenario's row."""
 
 Temperature = Annotated[float, Field(ge=-60, le=120, allow_inf_nan=False)]
 NonNegative = Annotated[float, Field(ge=0, allow_inf_nan=False)]
@@ -267,7 +291,7 @@ class GroundIn(Strict):
 class SensorIn(Strict):
     """A reporting point inside the concrete."""
 
-    id: str = F("Sensor label", "S1", min_length=1, max_length=64)
+    id: Label = F("Sensor label (no control characters)", "S1", min_length=1, max_length=64)
     depth_m: float = F("Depth below the top face [m]", 1.0, ge=0)
     x_m: float = F("Plan offset from the element centre across the width [m]", 0.0, default=0.0)
     y_m: float = F("Plan offset from the element centre along the length [m]", 0.0, default=0.0)
@@ -480,19 +504,38 @@ class ComparisonIn(Strict):
     """A base scenario and named variants, each a partial override of the base."""
 
     base: dict[str, Any] = F("The base scenario (as for POST /v1/forecasts)")
-    variants: dict[str, dict[str, Any]] = F(
+    variants: dict[Label, dict[str, Any]] = F(
         'Named partial overrides merged into the base, e.g. {"cooler": {"placement": '
-        '{"temperature_c": 15}}}',
+        '{"temperature_c": 15}}}; names without control characters, not "base"',
         min_length=1,
         max_length=20,
     )
+
+    @field_validator("variants")
+    @classmethod
+    def _not_reserved(cls, variants: dict[str, Any]) -> dict[str, Any]:
+        reserved = sorted(RESERVED_VARIANT_NAMES.intersection(variants))
+        if reserved:
+            raise ValueError(
+                f"{', '.join(map(repr, reserved))} is reserved for the base scenario's row: "
+                "give the variant another name"
+            )
+        return variants
 
 
 class PourIn(Strict):
     """A pour to store and monitor (POST /v1/pours)."""
 
-    name: str = F("Name of the pour", "Mat A, north half", min_length=1, max_length=120)
-    placed_at: str = F("Placement time, ISO 8601 with a UTC offset", "2026-11-02T07:00:00-05:00")
+    name: Label = F(
+        "Name of the pour (no control characters)",
+        "Mat A, north half",
+        min_length=1,
+        max_length=120,
+    )
+    placed_at: str = F(
+        "Placement time, ISO 8601 with a UTC offset; from 2000-01-01 to 366 days ahead",
+        "2026-11-02T07:00:00-05:00",
+    )
     scenario: ScenarioIn = F("The planned scenario; its sensors are the loggers' channels")
 
 

@@ -26,6 +26,7 @@ import re
 from collections.abc import Callable, Mapping
 from typing import Any, NamedTuple
 
+from service.csvout import SafeCsvWriter
 from service.rounding import TEMPERATURE_DIGITS, significant
 
 # --- Conversion factors: SI units per US customary unit -------------------------------------
@@ -542,7 +543,7 @@ def csv_to_us(csv_text: str) -> str:
     rules = [_csv_rule(name) for name in header]
     walk = _Walk(to_us=True, digits=DIGITS)
     out = io.StringIO()
-    writer = csv.writer(out, lineterminator="\n")
+    writer = SafeCsvWriter(out)
     writer.writerow([csv_header_to_us(name) for name in header])
     for row in rows[1:]:
         cells = []

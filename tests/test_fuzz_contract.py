@@ -36,6 +36,7 @@ from schemathesis.checks import (
     response_schema_conformance,
     status_code_conformance,
 )
+from schemathesis.config import SchemathesisConfig
 
 from service.app import create_app
 
@@ -125,7 +126,9 @@ class Fuzzed:
 
 def make_fuzzed(database: str) -> Fuzzed:
     """Build the app on ``database``, store a live pour with readings and an archived one, and
-    load the schema from the app's own GET /openapi.json."""
+    load the schema from the app's own GET /openapi.json. schemathesis keeps its files (by
+    default a ``.schemathesis/`` folder in the working directory) beside the database, in the
+    caller's temporary folder."""
     app = create_app({"TESTING": True, "DATABASE": database, "MAX_CELL_STEPS": FUZZ_CELL_STEPS})
     client = app.test_client()
     ids = []
@@ -138,7 +141,9 @@ def make_fuzzed(database: str) -> Fuzzed:
     response = client.post(f"/v1/pours/{ids[0]}/readings", json={"readings": READINGS})
     assert response.status_code == 200, response.get_json()
     assert client.delete(f"/v1/pours/{ids[1]}").status_code == 204
-    schema = schemathesis.openapi.from_wsgi("/openapi.json", app)
+    files = os.path.join(os.path.dirname(os.path.abspath(database)), "schemathesis")
+    config = SchemathesisConfig.from_dict({"cache": {"directory": files}})
+    schema = schemathesis.openapi.from_wsgi("/openapi.json", app, config=config)
     return Fuzzed(app, schema, (ids[0], ids[1], UNKNOWN_POUR), ids[2])
 
 
@@ -250,6 +255,13 @@ def test_every_operation_is_fuzzed(fuzzed):
     # nothing skipped silently: the generated operations are the documented ones
     loaded = sorted(operation_id(op) for op in operations(fuzzed.schema))
     assert loaded == sorted(_operation_ids())
+
+
+def test_schemathesis_files_go_to_the_temporary_folder(fuzzed, tmp_path_factory):
+    # not an untracked .schemathesis/ folder in the checkout
+    folder = fuzzed.schema.config.cache.directory
+    assert folder is not None
+    assert folder.is_relative_to(tmp_path_factory.getbasetemp())
 
 
 def test_openapi_document_is_served_as_documented(fuzzed):

@@ -336,3 +336,124 @@ def test_json_that_is_not_an_object_is_400(make_app, path, body):
     response = make_app().test_client().post(path, data=body, content_type="application/json")
     assert response.status_code == 400
     assert "JSON object" in response.get_json()["detail"]
+
+
+# --- whole bodies, nosniff, fail-closed settings, access log (issue: hostile input) -------
+
+
+def _csv_upload(rows: int) -> tuple[bytes, dict]:
+    lines, values = ["time,sensor,temperature_c"], {}
+    for i in range(rows):
+        moment = _z(PLACED_AT + timedelta(minutes=i))
+        values[(moment, "S1")] = round(20.75 + (i % 500) / 100, 2)
+        lines.append(f"{moment},S1,{values[(moment, 'S1')]}")
+    return ("\n".join(lines) + "\n").encode(), values
+
+
+def _chunked(client, path: str, body: bytes):
+    """A chunked upload as a WSGI server that frames chunks (gunicorn) hands it to the app:
+    no Content-Length, and ``wsgi.input_terminated``."""
+    import io
+
+    return client.post(
+        path,
+        input_stream=io.BytesIO(body),
+        headers={"Content-Type": "text/csv", "Transfer-Encoding": "chunked"},
+        environ_overrides={"wsgi.input_terminated": True},
+    )
+
+
+def test_chunked_upload_over_the_limit_is_413_and_stores_nothing(make_app):
+    # Werkzeug alone cut such a body at the limit: half the rows stored, the last one mid-number
+    client = make_app(MAX_CONTENT_LENGTH=16384).test_client()
+    pour_id = client.post("/v1/pours", json=_pour()).get_json()["id"]
+    body, _ = _csv_upload(1000)  # about 37 KB
+    response = _chunked(client, f"/v1/pours/{pour_id}/readings", body)
+    assert response.status_code == 413
+    assert response.get_json()["errors"][0]["field"] == "(body)"
+    assert client.get(f"/v1/pours/{pour_id}/readings").get_json()["readings"] == []
+
+
+def test_chunked_upload_under_the_limit_is_stored_whole(make_app):
+    client = make_app(MAX_CONTENT_LENGTH=65536).test_client()
+    pour_id = client.post("/v1/pours", json=_pour()).get_json()["id"]
+    body, values = _csv_upload(1000)
+    response = _chunked(client, f"/v1/pours/{pour_id}/readings", body)
+    assert response.status_code == 200
+    assert response.get_json()["accepted"] == 1000
+    stored = client.get(f"/v1/pours/{pour_id}/readings").get_json()["readings"]
+    assert {(r["time"], r["sensor"]): r["temperature_c"] for r in stored} == values
+
+
+def test_body_shorter_than_its_content_length_is_400_and_stores_nothing(make_app):
+    import io
+
+    client = make_app().test_client()
+    pour_id = client.post("/v1/pours", json=_pour()).get_json()["id"]
+    body, _ = _csv_upload(10)
+    response = client.post(
+        f"/v1/pours/{pour_id}/readings",
+        input_stream=io.BytesIO(body[:100]),
+        headers={"Content-Type": "text/csv"},
+        environ_overrides={"CONTENT_LENGTH": str(len(body))},  # the client went away early
+    )
+    assert response.status_code == 400
+    assert client.get(f"/v1/pours/{pour_id}/readings").get_json()["readings"] == []
+
+
+@pytest.mark.parametrize(
+    ("method", "path", "kwargs"),
+    [
+        ("get", "/healthz", {}),
+        ("get", "/openapi.json", {}),
+        ("get", "/v1/pours/unknown", {}),
+        ("post", "/v1/forecasts", {"json": {"element": {}}}),
+        ("post", "/v1/pours", {"data": b"x" * 5000, "content_type": "text/csv"}),
+    ],
+)
+def test_every_response_says_nosniff(make_app, method, path, kwargs):
+    client = make_app(MAX_CONTENT_LENGTH=1000).test_client()
+    response = getattr(client, method)(path, **kwargs)
+    assert response.headers["X-Content-Type-Options"] == "nosniff"
+
+
+@pytest.mark.parametrize("tokens", ["", " , ", ","])
+def test_tokens_set_but_empty_fail_at_start(make_app, monkeypatch, tokens):
+    monkeypatch.setenv("POURHEAT_TOKENS", tokens)
+    with pytest.raises(ValueError, match="POURHEAT_TOKENS"):
+        make_app()
+
+
+def test_auth_reads_without_any_token_fails_at_start(make_app, monkeypatch):
+    monkeypatch.setenv("POURHEAT_AUTH_READS", "true")
+    with pytest.raises(ValueError, match="POURHEAT_AUTH_READS"):
+        make_app()
+
+
+def test_access_log_never_shows_a_query_string_or_credentials():
+    from datetime import timedelta as delta
+    from types import SimpleNamespace
+
+    from gunicorn.config import Config
+
+    from service.serving import AccessLogger
+
+    config = Config()
+    config.set("access_log_format", '%(r)s %(q)s "%(f)s" %({authorization}i)s %({raw_uri}e)s')
+    logger = AccessLogger(config)
+    secret = "QuerySecret0123456789"
+    environ = {
+        "REQUEST_METHOD": "GET",
+        "RAW_URI": f"/v1/pours?token={secret}&archived=true",
+        "PATH_INFO": "/v1/pours",
+        "QUERY_STRING": f"token={secret}&archived=true",
+        "SERVER_PROTOCOL": "HTTP/1.1",
+        "HTTP_REFERER": f"https://dash.example.com/?key={secret}",
+        "HTTP_AUTHORIZATION": f"Bearer {secret}",
+    }
+    request = SimpleNamespace(headers=[("AUTHORIZATION", f"Bearer {secret}")])
+    response = SimpleNamespace(status="200 OK", headers=[], sent=10)
+    atoms = logger.atoms(response, request, environ, delta(seconds=0))
+    line = config.access_log_format % logger.atoms_wrapper_class(atoms)
+    assert secret not in line
+    assert "GET /v1/pours?[2 parameter(s) not logged] HTTP/1.1" in line

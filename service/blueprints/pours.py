@@ -7,6 +7,13 @@ a site logger's local clock is ambiguous) and always answered in UTC with ``Z``,
 checked row by row: good rows are stored in one transaction before the answer, rejected rows
 are reported with their 0-based index in the upload and never stored. Re-posting a reading
 already stored (same sensor, same instant) is counted as a duplicate and changes nothing.
+
+The body is read whole before any row is looked at (service/limits.py): a body over the size
+limit is refused as a whole (413), whatever its transfer encoding, and nothing of it is stored.
+CSV uploads may end their lines in LF, CRLF or CR alone; a sensor cell that the service's own CSV
+exports made spreadsheet-safe (``'=``, ``'+``, ``'-``, ``'@`` ...) is read back as the id.
+``placed_at`` must lie between :data:`EARLIEST_PLACED_AT` and :data:`LATEST_PLACED_AHEAD` from
+now.
 """
 
 import csv
@@ -20,9 +27,11 @@ from pydantic import ValidationError
 from werkzeug.exceptions import BadRequest, UnsupportedMediaType
 
 from service import store, units
+from service.csvout import FORMULA_TRIGGERS, SafeCsvWriter
 from service.errors import InvalidScenarioError, problem, validation_errors
 from service.forecasting import check_budget, validated_scenario
 from service.negotiation import choose_format, requested_units
+from service.schemas import CONTROL_CHARACTERS
 
 bp = Blueprint("pours", __name__)
 
@@ -39,6 +48,11 @@ EARLIEST_BEFORE_PLACEMENT = timedelta(hours=1)
 LATEST_AFTER_NOW = timedelta(hours=24)
 """Readings may be this far ahead of the server's clock (loggers with a wrong clock or zone)."""
 MEDIA_TYPES = {"json": "application/json", "csv": "text/csv"}
+EARLIEST_PLACED_AT = datetime(2000, 1, 1, tzinfo=UTC)
+"""Earliest accepted placement time: older records are not site monitoring (and a pour placed at
+year 1 broke every later upload)."""
+LATEST_PLACED_AHEAD = timedelta(days=366)
+"""A pour may be stored up to a year before it is placed (planned pours)."""
 
 
 def _invalid(title: str, errors: list[dict[str, str]]) -> Response:
@@ -119,9 +133,25 @@ def create_pour() -> Response:
             errors.append({"field": "name", "message": "expected a non-empty string"})
         elif len(name.strip()) > NAME_MAX_CHARS:
             errors.append({"field": "name", "message": f"at most {NAME_MAX_CHARS} characters"})
+        elif CONTROL_CHARACTERS.search(name):
+            errors.append(
+                {
+                    "field": "name",
+                    "message": "control characters (tab, CR, LF, DEL, C0 and C1) are not allowed",
+                }
+            )
     placed_at = None
     if "placed_at" in payload:
         placed_at, why = _aware_time(payload["placed_at"])
+        latest = datetime.now(UTC) + LATEST_PLACED_AHEAD
+        if placed_at is not None and not EARLIEST_PLACED_AT <= placed_at <= latest:
+            placed_at, why = (
+                None,
+                (
+                    f"must lie between {store.iso_utc(EARLIEST_PLACED_AT)} and "
+                    f"{LATEST_PLACED_AHEAD.days} days from now ({store.iso_utc(latest)})"
+                ),
+            )
         if placed_at is None:
             errors.append({"field": "placed_at", "message": why})
         else:
@@ -243,8 +273,13 @@ def _csv_rows(limit: int) -> list[Any]:
         text = request.get_data().decode("utf-8-sig")
     except UnicodeDecodeError as error:
         raise BadRequest("the CSV must be UTF-8") from error
-    lines = csv.reader(io.StringIO(text))
-    header = [cell.strip() for cell in next(lines, [])]
+    lines = csv.reader(io.StringIO(text, newline=""))  # LF, CRLF or CR line ends
+    try:
+        header = [cell.strip() for cell in next(lines, [])]
+    except csv.Error as error:
+        raise RefusedError(
+            _invalid("Invalid readings", [{"field": "header", "message": str(error)}])
+        ) from None
     if header != CSV_HEADER:
         extra = [c for c in header if c not in CSV_HEADER]
         message = f"expected exactly {','.join(CSV_HEADER)}, got {','.join(header) or 'nothing'}"
@@ -252,7 +287,17 @@ def _csv_rows(limit: int) -> list[Any]:
             message += f" (unknown columns: {', '.join(extra)})"
         raise RefusedError(_invalid("Invalid readings", [{"field": "header", "message": message}]))
     rows: list[Any] = []
-    for cells in lines:
+    while True:
+        try:
+            cells = next(lines, None)
+        except csv.Error as error:  # a cell over csv.field_size_limit(), a stray quote ...
+            problem_ = {
+                "field": f"readings.{len(rows)}",
+                "message": f"line {lines.line_num}: {error}",
+            }
+            raise RefusedError(_invalid("Invalid readings", [problem_])) from None
+        if cells is None:
+            break
         if not any(cell.strip() for cell in cells):
             continue  # blank line
         if len(rows) == limit:
@@ -280,6 +325,11 @@ def _temperature(value: Any, from_csv: bool) -> tuple[float | None, str]:
     return value, ""
 
 
+def _unescaped(cell: str) -> str:
+    """A cell as written before the service's CSV exports made it spreadsheet-safe."""
+    return cell[1:] if cell.startswith("'") and cell[1:].startswith(FORMULA_TRIGGERS) else cell
+
+
 def _check_row(
     row: Any, sensors: set[str], earliest: datetime, latest: datetime, from_csv: bool
 ) -> tuple[tuple[datetime, str, float] | None, list[tuple[str, str]]]:
@@ -300,6 +350,8 @@ def _check_row(
             problems.append(("time", "more than 24 h after the server's current time"))
     if "sensor" in row:
         sensor = row["sensor"]
+        if from_csv and isinstance(sensor, str) and sensor not in sensors:
+            sensor = _unescaped(sensor)
         if not isinstance(sensor, str) or sensor not in sensors:
             problems.append(
                 ("sensor", f"{sensor!r} is not one of the pour's sensors {sorted(sensors)}")
@@ -331,7 +383,10 @@ def add_readings(pour_id: str) -> Response:
     if not rows:
         return _invalid("Invalid readings", [{"field": "readings", "message": "no readings"}])
     sensors = {*_sensor_ids(pour["scenario"]), AIR_SENSOR}
-    earliest = pour["placed_at"] - EARLIEST_BEFORE_PLACEMENT
+    try:
+        earliest = pour["placed_at"] - EARLIEST_BEFORE_PLACEMENT
+    except OverflowError:  # a pour stored before placed_at was bounded
+        earliest = datetime.min.replace(tzinfo=UTC)
     latest = datetime.now(UTC) + LATEST_AFTER_NOW
     good: list[tuple[datetime, str, float]] = []
     rejected: list[dict[str, Any]] = []
@@ -377,7 +432,7 @@ def get_readings(pour_id: str) -> Response:
         body = {"readings": readings}
         return jsonify(units.body_to_us(body) if us else body)
     out = io.StringIO()
-    writer = csv.writer(out, lineterminator="\n")
+    writer = SafeCsvWriter(out)
     writer.writerow([*CSV_HEADER, "hours"])
     for r in readings:
         writer.writerow([r["time"], r["sensor"], r["temperature_c"], r["hours"]])
