@@ -9,6 +9,7 @@ Definitions (see the README):
 """
 
 from dataclasses import dataclass
+from typing import Literal
 
 import numpy as np
 from numpy.typing import NDArray
@@ -16,6 +17,45 @@ from scipy.interpolate import make_interp_spline
 
 CROSSING_RESOLUTION_H = 0.01
 """Resolution of the first time a limit is exceeded [h]."""
+SETTLE_WINDOW_H = 24.0
+"""A maximum reached within this long before the end of a forecast is "near the end" [h]: one
+daily cycle of the air (common practice, no source)."""
+RISING_WINDOW_H = 1.0
+"""A quantity is "still rising at the end" when its value at the end exceeds its value this
+long before the end [h]."""
+SHOCK_WINDOW_H = 48.0
+"""A removal of insulation or forms this close to the end of a forecast [h] leaves its cooling
+shock unfinished: the differential it causes may still grow (common practice, no source; the
+removal search of model.planning keeps removals this far from the end too)."""
+
+Verdict = Literal["met", "exceeded", "unsettled"]
+
+
+@dataclass(frozen=True)
+class LimitVerdict:
+    """Whether a forecast keeps a limit.
+
+    Attributes
+    ----------
+    verdict : "exceeded" (the worst value is above the limit), "unsettled" (not above it, but
+        not settled within the forecast: the maximum is near the end and still rising, or a
+        removal's cooling shock is not over), or "met"
+    worst : largest value of the quantity over every solver step [C]
+    margin : limit minus worst [C]
+    first_exceeded_h : first time the quantity exceeds the limit [h], None if it never does
+    reason : why the verdict is "unsettled" (None otherwise)
+    """
+
+    verdict: Verdict
+    worst: float
+    margin: float
+    first_exceeded_h: float | None
+    reason: str | None = None
+
+    @property
+    def met(self) -> bool | None:
+        """True only when met; False when exceeded; None when not settled (never True)."""
+        return {"met": True, "exceeded": False, "unsettled": None}[self.verdict]
 
 
 @dataclass(frozen=True)
@@ -116,6 +156,45 @@ class Forecast:
         )
         above = np.flatnonzero(dense_output(time, list(self.restarts_h), fine)(values) > limit)
         return float(fine[above[0]])
+
+    def unsettled_reason(self, quantity: str, removal_shock: bool) -> str | None:
+        """Why the maximum of ``quantity`` ("core_c" or "differential_c") is not settled within
+        the forecast, or None when it is.
+
+        Not settled when (1) its maximum falls within the last SETTLE_WINDOW_H of the forecast
+        and it is still rising at the end (the value at the end is above the value
+        RISING_WINDOW_H before it), or (2) ``removal_shock`` is set (for the differential) and
+        insulation or forms come off within the last SHOCK_WINDOW_H of the forecast.
+        """
+        time, values = self.every_step["time_h"], self.every_step[quantity]
+        end = float(time[-1])
+        worst_time = float(time[int(np.argmax(values))])
+        before = float(np.interp(end - RISING_WINDOW_H, time, values))
+        if worst_time >= end - SETTLE_WINDOW_H and values[-1] > before:
+            return (
+                f"its maximum is at {worst_time:.1f} h, near the end of the forecast "
+                f"({end:g} h), and still rising"
+            )
+        late = [t for t in self.restarts_h if t > end - SHOCK_WINDOW_H]
+        if removal_shock and late:
+            return (
+                f"insulation or forms come off at {late[-1]:g} h, less than "
+                f"{SHOCK_WINDOW_H:g} h before the end of the forecast ({end:g} h), so the "
+                "cooling shock is not over"
+            )
+        return None
+
+    def limit_verdict(self, quantity: str, limit: float) -> LimitVerdict:
+        """The verdict on ``limit`` for ``quantity`` ("core_c" for the peak temperature,
+        "differential_c" for the differential, whose removal shocks are watched too) [C]."""
+        worst = float(np.max(self.every_step[quantity]))
+        first = self.first_time_above_h(quantity, limit)
+        if worst > limit:
+            return LimitVerdict("exceeded", worst, limit - worst, first)
+        reason = self.unsettled_reason(quantity, removal_shock=quantity == "differential_c")
+        if reason is not None:
+            return LimitVerdict("unsettled", worst, limit - worst, first, reason)
+        return LimitVerdict("met", worst, limit - worst, first)
 
 
 @dataclass(frozen=True)

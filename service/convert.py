@@ -147,15 +147,40 @@ def _rounded(values: np.ndarray, digits: int = 3) -> list[float]:
     return [round(float(v), digits) for v in values]
 
 
-def limit_status(result: Forecast, quantity: str, worst: float, limit: float) -> dict:
+EXTEND_BY_H = 72.0
+"""How much longer a forecast the caution on an unsettled limit suggests [h] (three daily air
+cycles; common practice, no source)."""
+LIMIT_QUANTITIES = {"max_temperature_c": "core_c", "max_differential_c": "differential_c"}
+"""The series whose maximum each limit bounds."""
+
+
+def limit_status(result: Forecast, quantity: str, limit: float) -> dict:
     """Whether a limit is met, the margin (limit minus worst value) and when it is first
-    exceeded; all three from every solver step."""
-    return {
+    exceeded, all from every solver step. ``met`` is true, false, or null when the verdict is
+    "unsettled" (not settled within the forecast; see model.results.Forecast.limit_verdict):
+    null is never true, so a consumer that tests ``met`` treats it as not met."""
+    verdict = result.limit_verdict(quantity, limit)
+    status = {
         "limit_c": limit,
-        "met": bool(worst <= limit),
-        "margin_c": round(limit - worst, 3),
-        "first_exceeded_h": result.first_time_above_h(quantity, limit),
+        "met": verdict.met,
+        "verdict": verdict.verdict,
+        "margin_c": round(verdict.margin, 3),
+        "first_exceeded_h": verdict.first_exceeded_h,
     }
+    if verdict.reason is not None:
+        status["unsettled_reason"] = verdict.reason
+    return status
+
+
+def unsettled_cautions(limits: dict[str, dict], duration_h: float) -> list[str]:
+    """A caution for each limit whose verdict is "unsettled", saying to extend duration_h."""
+    return [
+        f"The {key.removesuffix('_c').replace('_', ' ')} limit is not settled within the "
+        f"forecast: {status['unsettled_reason']}. It is not reported as met; extend duration_h "
+        f"(e.g. to {duration_h + EXTEND_BY_H:g} h) and forecast again."
+        for key, status in limits.items()
+        if status["verdict"] == "unsettled"
+    ]
 
 
 def forecast_json(
@@ -175,12 +200,8 @@ def forecast_json(
         "final_core_equivalent_age_h": round(s.final_core_equivalent_age_h, 2),
         "final_surface_equivalent_age_h": round(s.final_surface_equivalent_age_h, 2),
         "limits": {
-            "max_temperature_c": limit_status(
-                result, "core_c", s.peak_temperature_c, limits.max_temperature_c
-            ),
-            "max_differential_c": limit_status(
-                result, "differential_c", s.max_differential_c, limits.max_differential_c
-            ),
+            key: limit_status(result, quantity, getattr(limits, key))
+            for key, quantity in LIMIT_QUANTITIES.items()
         },
     }
     series = {
@@ -205,7 +226,7 @@ def forecast_json(
     return {
         "summary": summary,
         "series": series,
-        "cautions": list(CAUTIONS),
+        "cautions": [*CAUTIONS, *unsettled_cautions(summary["limits"], scenario.duration_h)],
         "hydration": {"origin": hydration_origin, **asdict(scenario.concrete.hydration)},
         "numerics": {
             "cells": result.cells,

@@ -51,6 +51,7 @@ def _solve_one(
         "summary": _summary_json(result.summary),
         "forecasts_run": result.forecasts_run,
         "note": result.note,
+        "unsettled": result.unsettled,
     }
 
 
@@ -127,7 +128,11 @@ def _forecast_row(
     _, body = run_forecast(payload, max_cell_steps, deadline)
     summary = dict(body["summary"])
     limits = summary.pop("limits")
-    return {**summary, **{f"{k}_met": v["met"] for k, v in limits.items()}}
+    return {
+        **summary,
+        **{f"{k}_met": v["met"] for k, v in limits.items()},
+        **{f"{k}_verdict": v["verdict"] for k, v in limits.items()},
+    }
 
 
 COMPARISON_COLUMNS = (
@@ -140,6 +145,8 @@ COMPARISON_COLUMNS = (
     "min_surface_temperature_c",
     "max_temperature_c_met",
     "max_differential_c_met",
+    "max_temperature_c_verdict",
+    "max_differential_c_verdict",
 )
 
 

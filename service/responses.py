@@ -4,7 +4,7 @@ The service builds its bodies in :mod:`service.convert`; these models describe t
 field, with units. SI names are shown; with ``units=us`` the suffixes change (see the README).
 """
 
-from typing import Any
+from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict
 
@@ -21,9 +21,22 @@ class LimitStatusOut(Out):
     """A limit checked against every solver step."""
 
     limit_c: float = F("The limit checked [C]", 70.0)
-    met: bool = F("Whether the forecast stays within the limit", True)
+    met: bool | None = F(
+        "true: met; false: exceeded; null: not settled within the forecast (verdict "
+        "unsettled), never true then, so treat it as not met",
+        True,
+    )
+    verdict: Literal["met", "exceeded", "unsettled"] = F(
+        "met; exceeded; unsettled: not above the limit within the forecast, but its maximum is "
+        "within the last 24 h and still rising at the end, or (differential) insulation or "
+        "forms come off within the last 48 h: extend duration_h",
+        "met",
+    )
     margin_c: float = F("Limit minus the worst forecast value; negative when exceeded [C]", 3.2)
     first_exceeded_h: float | None = F("First time the limit is exceeded, or null [h]", None)
+    unsettled_reason: str | None = F(
+        "Why the verdict is unsettled (present only then)", None, default=None
+    )
 
 
 class LimitsOut(Out):
@@ -252,6 +265,12 @@ class ControlOut(Out):
     summary: PlanSummaryOut | None = F("Forecast summary at the value", default=None)
     forecasts_run: int | None = F("Whole forecasts the search took", 7, default=None)
     note: str = F("Plain-language explanation", "most permissive value that meets the limits")
+    unsettled: str | None = F(
+        "Why a limit is not settled within the forecast at the value shown (it then counts as "
+        "not met: extend duration_h), or null",
+        None,
+        default=None,
+    )
 
 
 class PrecoolingOut(Out):
@@ -290,8 +309,14 @@ class ComparisonRowOut(Out):
     variant: str = F("Variant name (base first)", "base")
     peak_temperature_c: float = F("Peak temperature [C]", 72.8)
     max_differential_c: float = F("Maximum differential [C]", 11.2)
-    max_temperature_c_met: bool = F("Peak limit met", False)
-    max_differential_c_met: bool = F("Differential limit met", True)
+    max_temperature_c_met: bool | None = F(
+        "Peak limit met (null: not settled within the forecast, not met)", False
+    )
+    max_differential_c_met: bool | None = F(
+        "Differential limit met (null: not settled within the forecast, not met)", True
+    )
+    max_temperature_c_verdict: str = F("Peak limit: met, exceeded or unsettled", "exceeded")
+    max_differential_c_verdict: str = F("Differential limit: met, exceeded or unsettled", "met")
 
 
 class ComparisonOut(Out):
