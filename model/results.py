@@ -23,6 +23,11 @@ daily cycle of the air (common practice, no source)."""
 RISING_WINDOW_H = 1.0
 """A quantity is "still rising at the end" when its value at the end exceeds its value this
 long before the end [h]."""
+PROJECTION_H = 72.0
+"""A quantity still rising at the end is projected this far past the end at the rate of its
+rise over the last SETTLE_WINDOW_H [h] (three daily cycles; common practice, no source): a
+limit it would reach by then is not settled. Forecasts that are not settled are to be extended
+by at least this much."""
 SHOCK_WINDOW_H = 48.0
 """A removal of insulation or forms this close to the end of a forecast [h] leaves its cooling
 shock unfinished: the differential it causes may still grow (common practice, no source; the
@@ -157,30 +162,39 @@ class Forecast:
         above = np.flatnonzero(dense_output(time, list(self.restarts_h), fine)(values) > limit)
         return float(fine[above[0]])
 
-    def unsettled_reason(self, quantity: str, removal_shock: bool) -> str | None:
+    def unsettled_reason(self, quantity: str, limit: float, removal_shock: bool) -> str | None:
         """Why the maximum of ``quantity`` ("core_c" or "differential_c") is not settled within
-        the forecast, or None when it is.
+        the forecast with respect to ``limit`` [C], or None when it is.
 
-        Not settled when (1) its maximum falls within the last SETTLE_WINDOW_H of the forecast
-        and it is still rising at the end (the value at the end is above the value
-        RISING_WINDOW_H before it), or (2) ``removal_shock`` is set (for the differential) and
-        insulation or forms come off within the last SHOCK_WINDOW_H of the forecast.
+        Not settled when either (the first that applies is the reason given)
+
+        1. ``removal_shock`` is set (for the differential) and insulation or forms come off
+           within the last SHOCK_WINDOW_H (48 h) of the forecast; or
+        2. its maximum falls within the last SETTLE_WINDOW_H (24 h) of the forecast, it is still
+           rising at the end (the value at the end is above the value RISING_WINDOW_H, 1 h,
+           before it), and its rise over the last SETTLE_WINDOW_H, continued for PROJECTION_H
+           (72 h) more, would reach ``limit``.
         """
         time, values = self.every_step["time_h"], self.every_step[quantity]
         end = float(time[-1])
         worst_time = float(time[int(np.argmax(values))])
-        before = float(np.interp(end - RISING_WINDOW_H, time, values))
-        if worst_time >= end - SETTLE_WINDOW_H and values[-1] > before:
-            return (
-                f"its maximum is at {worst_time:.1f} h, near the end of the forecast "
-                f"({end:g} h), and still rising"
-            )
+        last = float(values[-1])
+        hour_before, day_before = np.interp(
+            [end - RISING_WINDOW_H, end - SETTLE_WINDOW_H], time, values
+        )
+        projected = last + (last - day_before) * PROJECTION_H / SETTLE_WINDOW_H
         late = [t for t in self.restarts_h if t > end - SHOCK_WINDOW_H]
         if removal_shock and late:
             return (
                 f"insulation or forms come off at {late[-1]:g} h, less than "
                 f"{SHOCK_WINDOW_H:g} h before the end of the forecast ({end:g} h), so the "
                 "cooling shock is not over"
+            )
+        if worst_time >= end - SETTLE_WINDOW_H and last > hour_before and projected >= limit:
+            return (
+                f"its maximum is at {worst_time:.1f} h, near the end of the forecast "
+                f"({end:g} h), and still rising: at the rate of the last {SETTLE_WINDOW_H:g} h "
+                f"it would reach the limit by {end + PROJECTION_H:g} h"
             )
         return None
 
@@ -191,7 +205,7 @@ class Forecast:
         first = self.first_time_above_h(quantity, limit)
         if worst > limit:
             return LimitVerdict("exceeded", worst, limit - worst, first)
-        reason = self.unsettled_reason(quantity, removal_shock=quantity == "differential_c")
+        reason = self.unsettled_reason(quantity, limit, removal_shock=quantity == "differential_c")
         if reason is not None:
             return LimitVerdict("unsettled", worst, limit - worst, first, reason)
         return LimitVerdict("met", worst, limit - worst, first)

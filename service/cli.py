@@ -7,7 +7,9 @@ service validate and answer the same way. Exit codes of ``pourheat forecast``:
     1  an output file (--csv, --json) could not be written
     2  bad input: unreadable file, invalid JSON, or an invalid scenario (each "field: message"
        is printed to stderr); also argparse's usage errors
-    3  --fail-on-limit was given and a limit is forecast to be exceeded
+    3  --fail-on-limit was given and a limit is forecast to be exceeded, or is not settled
+       within the forecast (its maximum near the end and still rising, or a removal's cooling
+       shock not over: verdict "unsettled")
 """
 
 import argparse
@@ -34,8 +36,8 @@ GUNICORN_CONF = Path("deploy") / "gunicorn.conf.py"
 
 EPILOG = """exit codes: 0 ok; 1 an output file could not be written; 2 bad input (unreadable file,
 invalid JSON, invalid scenario: each "field: message" on stderr); 3 --fail-on-limit and a limit
-is forecast to be exceeded. Forecasts are estimates: limits come from the governing
-specification and the engineer of record; confirm by monitoring."""
+is forecast to be exceeded or not settled within the forecast. Forecasts are estimates: limits
+come from the governing specification and the engineer of record; confirm by monitoring."""
 
 
 class InputError(Exception):
@@ -146,7 +148,12 @@ def format_summary(body: dict[str, Any], unit: str = "C") -> str:
     for key, status in s["limits"].items():
         limit = _value(status, "limit", suffix)
         margin = _value(status, "margin", suffix)
-        if status["met"]:
+        if status.get("verdict") == "unsettled":
+            verdict = (
+                f"NOT SETTLED within the forecast (margin {margin:.1f} {unit} so far, not "
+                "counted as met): extend duration_h"
+            )
+        elif status["met"]:
             verdict = f"met (margin {margin:.1f} {unit})"
         else:
             verdict = f"EXCEEDED by {-margin:.1f} {unit}"
@@ -159,8 +166,13 @@ def format_summary(body: dict[str, Any], unit: str = "C") -> str:
 
 
 def limits_exceeded(body: dict[str, Any]) -> list[str]:
-    """Names of the limits the forecast says are exceeded (summary.limits.*.met is False)."""
-    return [_limit_name(k) for k, v in body["summary"]["limits"].items() if not v["met"]]
+    """Names of the limits the forecast does not show as met: exceeded (``met`` false) or not
+    settled within the forecast (``met`` null, verdict "unsettled")."""
+    return [
+        _limit_name(k) + (" (not settled)" if v["met"] is None else "")
+        for k, v in body["summary"]["limits"].items()
+        if v["met"] is not True
+    ]
 
 
 def _print_errors(errors: list[dict[str, str]]) -> None:

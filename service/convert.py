@@ -11,7 +11,7 @@ from model.ambient import Ambient
 from model.cements import CementComposition, cement_preset
 from model.hydration import Binder, HydrationParameters, estimate_hydration
 from model.properties import MixMasses
-from model.results import Forecast
+from model.results import PROJECTION_H, Forecast
 from model.scenario import (
     Concrete,
     Element,
@@ -147,9 +147,6 @@ def _rounded(values: np.ndarray, digits: int = 3) -> list[float]:
     return [round(float(v), digits) for v in values]
 
 
-EXTEND_BY_H = 72.0
-"""How much longer a forecast the caution on an unsettled limit suggests [h] (three daily air
-cycles; common practice, no source)."""
 LIMIT_QUANTITIES = {"max_temperature_c": "core_c", "max_differential_c": "differential_c"}
 """The series whose maximum each limit bounds."""
 
@@ -177,7 +174,7 @@ def unsettled_cautions(limits: dict[str, dict], duration_h: float) -> list[str]:
     return [
         f"The {key.removesuffix('_c').replace('_', ' ')} limit is not settled within the "
         f"forecast: {status['unsettled_reason']}. It is not reported as met; extend duration_h "
-        f"(e.g. to {duration_h + EXTEND_BY_H:g} h) and forecast again."
+        f"(e.g. to {duration_h + PROJECTION_H:g} h) and forecast again."
         for key, status in limits.items()
         if status["verdict"] == "unsettled"
     ]
