@@ -29,6 +29,7 @@ EXIT_OK = 0
 EXIT_OUTPUT_ERROR = 1
 EXIT_BAD_INPUT = 2
 EXIT_LIMIT_EXCEEDED = 3
+EXIT_READINGS_STALE = 4
 
 DEFAULT_PORT = 8000
 APP_SPEC = "service.app:create_app()"
@@ -310,15 +311,27 @@ def _http(
 def cmd_watch(args: argparse.Namespace) -> int:
     """``pourheat watch``: post new readings of a pour, print its status line.
 
-    Exit 3 when a limit is measured or forecast to be exceeded, 2 when the server refuses the
-    input (4xx), 1 when it cannot be reached or fails.
+    Exit 3 when a limit is measured or forecast to be exceeded, or not settled within the
+    forecast; 4 when the limits are met but the newest reading is stale (older than
+    service.monitoring.STALE_READINGS_H: the logger may have stopped); 2 when the readings file
+    cannot be read or the server refuses the input (4xx); 1 when the server cannot be reached
+    or fails.
     """
     from service.monitoring import status_line
 
     base = f"{args.server.rstrip('/')}/v1/pours/{args.pour}"
-    try:
-        if args.readings:
+    data = None
+    if args.readings:
+        try:
             data = Path(args.readings).read_bytes()
+        except OSError as error:
+            print(
+                f"pourheat: cannot read readings file {args.readings}: {error.strerror or error}",
+                file=sys.stderr,
+            )
+            return EXIT_BAD_INPUT
+    try:
+        if data is not None:
             status, body = _http("POST", f"{base}/readings", data, "text/csv")
             if status >= 400:
                 _report_problem(status, body)
@@ -339,7 +352,9 @@ def cmd_watch(args: argparse.Namespace) -> int:
         _report_problem(status, body)
         return EXIT_BAD_INPUT if status < 500 else EXIT_OUTPUT_ERROR
     print(status_line(body))
-    return EXIT_LIMIT_EXCEEDED if not body["limits_met"] else EXIT_OK
+    if not body["limits_met"]:
+        return EXIT_LIMIT_EXCEEDED
+    return EXIT_READINGS_STALE if body.get("readings_stale") else EXIT_OK
 
 
 def _report_problem(status: int, body: Any) -> None:
@@ -449,7 +464,9 @@ def build_parser() -> argparse.ArgumentParser:
         "watch",
         help="post new readings of a stored pour and print its status (for cron)",
         description="Post a data-logger CSV (time,sensor,temperature_c) to a stored pour, then "
-        "print its calibrated status. Exit 3 when a limit is measured or forecast exceeded. "
+        "print its calibrated status. Exit 3 when a limit is measured or forecast exceeded (or "
+        "not settled within the forecast), 4 when the newest reading is stale (the logger may "
+        "have stopped), 2 when the readings file cannot be read. "
         "When the service requires a token, put it in the environment as POURHEAT_TOKEN.",
         epilog=EPILOG,
     )

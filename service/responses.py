@@ -392,7 +392,10 @@ class PourForecastOut(ForecastOut):
         "C), their standard errors, RMS misfit per sensor and overall [C], readings used",
         {"status": "calibrated to the readings so far", "rms_c": 0.18},
     )
-    now_h: float = F("Hours since placement of the latest reading [h]", 48.0)
+    now_h: float = F("Hours since placement, now (at the request) [h]", 50.5)
+    latest_reading_h: float | None = F(
+        "Hours since placement of the latest reading, or null when there is none [h]", 48.0
+    )
     differential_limit_exceeded_h: float | None = F(
         "When the differential limit is forecast to be exceeded, or null [h]", None
     )
@@ -403,22 +406,58 @@ class PourForecastOut(ForecastOut):
     )
 
 
+class PlannedRemovalOut(Out):
+    """A removal of insulation or forms that the scenario plans."""
+
+    face: str = F("Face", "top")
+    what: Literal["insulation", "formwork"] = F("What comes off", "insulation")
+    at_h: float = F("Hour after placement [h]", 168.0)
+
+
 class PourStatusOut(Out):
     """Compact status of a pour for dashboards."""
 
     id: str = F("Pour id", "3f9c2a7d81b4")
     name: str = F("Name", "Mat A, north half")
-    now_h: float = F("Hours since placement of the latest reading [h]", 48.0)
+    now_h: float = F("Hours since placement, now (at the request) [h]", 50.5)
+    latest_reading_h: float | None = F(
+        "Hours since placement of the newest concrete reading, or null [h]", 48.0
+    )
+    latest_reading_age_h: float | None = F(
+        "How old the newest concrete reading is, or null when there is none [h]", 2.5
+    )
+    readings_stale: bool = F(
+        "The newest concrete reading is older than 2 h (or there is none 2 h after "
+        "placement): check the data logger",
+        True,
+    )
     measured_max_c: float | None = F("Hottest current reading [C]", 61.2)
     measured_differential_c: float | None = F("Hottest minus coolest current reading [C]", 14.1)
     forecast_peak_c: float = F("Forecast peak [C]", 66.0)
     forecast_peak_time_h: float = F("When [h]", 70.0)
     forecast_max_differential_c: float = F("Forecast maximum differential [C]", 18.2)
-    limits_met: bool = F("No limit measured or forecast to be exceeded", True)
-    limit_measured_exceeded: bool = F("A limit is exceeded by the readings", False)
+    limits_met: bool = F(
+        "No limit measured or forecast to be exceeded, and none unsettled in the forecast", True
+    )
+    limit_measured_exceeded: bool = F("A limit is exceeded by the current readings", False)
     limit_forecast_exceeded: bool = F("A limit is forecast to be exceeded", False)
+    limits_measured_exceeded: list[str] = F(
+        "The limits the current readings exceed", ["max_differential_c"]
+    )
+    limits_forecast_exceeded: list[str] = F("The limits forecast to be exceeded", [])
+    limits_forecast_unsettled: list[str] = F(
+        "The limits not settled within the forecast (counted as not met)", []
+    )
+    planned_removals: list[PlannedRemovalOut] = F(
+        "Insulation and form removals the pour's scenario plans, by time"
+    )
+    earliest_insulation_removal_h: float | None = F(
+        "Earliest hour the top insulation may come off without exceeding a limit later (from "
+        "the forecast), or null [h]",
+        150.0,
+    )
     hours_until_insulation_removal: float | None = F(
-        "Hours until the insulation may come off", 140.0
+        "Hours from now until earliest_insulation_removal_h, or null", 99.5
     )
     calibration: str | None = F("Calibration status", "calibrated to the readings so far")
     cautions: list[str] = F("Cautions", ["Limits come from ..."])
