@@ -8,7 +8,7 @@ Definitions (see the README):
 - differential: hottest point minus near-surface temperature; also hottest minus coolest point.
 """
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import Literal
 
 import numpy as np
@@ -74,7 +74,7 @@ class Summary:
     max_spread_c, max_spread_time_h : largest hottest-minus-coolest point [C], when [h]
     min_surface_temperature_c : lowest near-surface temperature [C]
     final_core_equivalent_age_h, final_surface_equivalent_age_h : equivalent age at 21.1 C at the
-        end, at the hottest point and at the coolest near-surface point [h]
+        end, the greatest of the concrete's points and the least of the near-surface points [h]
     """
 
     peak_temperature_c: float
@@ -117,6 +117,13 @@ class Forecast:
     Series attributes are arrays on ``time_h`` [h]; temperatures in C, equivalent ages in h,
     Nurse-Saul factors in C h, degrees of hydration dimensionless. ``every_step`` holds
     time_h, core_c, surface_c and differential_c at every solver step, the data of the summary.
+
+    Equivalent ages (Arrhenius, 21.1 C) are integrated at fixed points and never decrease:
+    ``surface_equivalent_age_h`` is the least over the points of the near-surface layer of every
+    exposed face, ``faces_equivalent_age_h`` the least over each face's own layer,
+    ``sensors_equivalent_age_h`` at each sensor; ``core_equivalent_age_h`` (and
+    ``core_degree_of_hydration``) is the greatest over the points of the concrete, the most
+    mature point, normally the core.
     """
 
     time_h: NDArray[np.float64]
@@ -141,6 +148,7 @@ class Forecast:
     cells: int
     every_step: dict[str, NDArray[np.float64]]
     restarts_h: tuple[float, ...] = ()
+    faces_equivalent_age_h: dict[str, NDArray[np.float64]] = field(default_factory=dict)
 
     def first_time_above_h(self, quantity: str, limit: float) -> float | None:
         """First time ``quantity`` ("core_c", "surface_c" or "differential_c") exceeds

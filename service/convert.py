@@ -216,6 +216,12 @@ def forecast_json(
         "surface_nurse_saul_ch": _rounded(result.surface_nurse_saul_ch, 1),
         "faces_c": {name: _rounded(v) for name, v in result.faces_c.items()},
         "sensors": {name: _rounded(v) for name, v in result.sensors_c.items()},
+        "faces_equivalent_age_h": {
+            name: _rounded(v, 2) for name, v in result.faces_equivalent_age_h.items()
+        },
+        "sensors_equivalent_age_h": {
+            name: _rounded(v, 2) for name, v in result.sensors_equivalent_age_h.items()
+        },
     }
     more_summary, more_series = screening_parts(request, scenario, result)
     summary.update(more_summary)

@@ -116,10 +116,10 @@ class SummaryOut(Out):
     max_spread_time_h: float = F("When the largest spread occurs [h]", 98.0)
     min_surface_temperature_c: float = F("Lowest near-surface temperature [C]", 18.5)
     final_core_equivalent_age_h: float = F(
-        "Equivalent age at 21.1 C at the hottest point [h]", 420.0
+        "Equivalent age at 21.1 C of the most mature point of the concrete, at the end [h]", 420.0
     )
     final_surface_equivalent_age_h: float = F(
-        "Equivalent age at 21.1 C at the coolest near-surface point [h]", 250.0
+        "Equivalent age at 21.1 C of the least mature near-surface point, at the end [h]", 250.0
     )
     limits: LimitsOut = F("Each limit: met or not, margin, first time exceeded")
     uncertainty: UncertaintyOut | None = F("P10/P50/P90 band, when asked for", default=None)
@@ -140,13 +140,17 @@ class SeriesOut(Out):
     spread_c: list[float] = F("core_c minus coolest_c [C]", [0.0, 0.2, 0.4])
     air_c: list[float] = F("Air temperature [C]", [20.0, 20.0, 20.0])
     core_equivalent_age_h: list[float] = F(
-        "Equivalent age at the hottest point [h]", [0.0, 1.0, 2.0]
+        "Equivalent age at 21.1 C of the most mature point of the concrete (greatest over its "
+        "points; never decreases) [h]",
+        [0.0, 1.0, 2.0],
     )
     surface_equivalent_age_h: list[float] = F(
-        "Equivalent age at the near-surface point [h]", [0.0, 1.0, 2.0]
+        "Equivalent age at 21.1 C of the least mature point of the near-surface layer of every "
+        "exposed face (least over fixed points; never decreases) [h]",
+        [0.0, 1.0, 2.0],
     )
     core_degree_of_hydration: list[float] = F(
-        "Degree of hydration at the hottest point [-]", [0.0, 0.0, 0.002]
+        "Degree of hydration of the most mature point of the concrete [-]", [0.0, 0.0, 0.002]
     )
     core_nurse_saul_ch: list[float] = F(
         "Nurse-Saul factor at the hottest point [C h]", [0.0, 20.0, 40.2]
@@ -159,6 +163,14 @@ class SeriesOut(Out):
     )
     sensors: dict[str, list[float]] = F(
         "Temperature at each requested sensor [C]", {"S1": [20.0, 20.1, 20.3]}
+    )
+    faces_equivalent_age_h: dict[str, list[float]] = F(
+        "Equivalent age at 21.1 C of each exposed face: the least over the points of its "
+        "near-surface layer (never decreases) [h]",
+        {"top": [0.0, 1.0, 2.0]},
+    )
+    sensors_equivalent_age_h: dict[str, list[float]] = F(
+        "Equivalent age at 21.1 C at each requested sensor [h]", {"S1": [0.0, 1.0, 2.0]}
     )
     core_strength_mpa: list[float] | None = F(
         "In-place strength at the hottest point [MPa]", [0.0, 0.0, 0.1], default=None
@@ -243,7 +255,9 @@ class PlanSummaryOut(Out):
     max_spread_c: float = F("Maximum hottest-minus-coolest [C]", 11.3)
     max_spread_time_h: float = F("When [h]", 190.5)
     min_surface_temperature_c: float = F("Lowest near-surface temperature [C]", 17.2)
-    final_core_equivalent_age_h: float = F("Equivalent age at the hottest point [h]", 2284.0)
+    final_core_equivalent_age_h: float = F(
+        "Equivalent age of the most mature point, at the end [h]", 2284.0
+    )
     final_surface_equivalent_age_h: float = F("Equivalent age near the surface [h]", 1550.0)
 
 
