@@ -56,7 +56,7 @@ def pour_forecast(
     horizon_h = (latest_h or 0.0) + EXTRA_HORIZON_H
     if horizon_h > scenario.duration_h:
         scenario = replace(scenario, duration_h=float(np.ceil(horizon_h)))
-    check_budget(scenario, max_cell_steps, CALIBRATION_RUNS)
+    check_budget(scenario, max_cell_steps, CALIBRATION_RUNS, deadline=deadline)
     concrete_readings = int(np.count_nonzero(sensors != AIR_SENSOR))
     calibration: dict[str, Any]
     if concrete_readings == 0:

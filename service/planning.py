@@ -20,12 +20,17 @@ from model.scenario import Scenario
 from model.solver import forecast
 from service.convert import CAUTIONS
 from service.errors import InvalidScenarioError, validation_errors
-from service.forecasting import check_budget, run_forecast, validated_scenario
+from service.forecasting import (
+    check_budget,
+    parallel_rounds,
+    run_forecast,
+    validated_scenario,
+)
 from service.parallel import map_in_processes
 from service.schemas import BatchIn, ComparisonIn, PlanIn
 
 PLAN_EVALUATIONS = 14
-"""Forecasts a single control search may take, for the compute budget."""
+"""Forecasts a single control search may take one after the other, for the compute budget."""
 MIN_CHILLED_WATER_C = 1.0
 """Coldest practical chilled batch water [C] (common practice, no source)."""
 
@@ -92,7 +97,8 @@ def run_plan(payload: Any, max_cell_steps: float, deadline: float | None = None)
             [{**e, "field": f"scenario.{e['field']}"} for e in error.errors]
         ) from error
     controls = list(dict.fromkeys(plan.solve_for))
-    check_budget(scenario, max_cell_steps, PLAN_EVALUATIONS * len(controls), "solve_for")
+    rounds = PLAN_EVALUATIONS * parallel_rounds(len(controls))
+    check_budget(scenario, max_cell_steps, rounds, "solve_for", deadline)
     chosen = plan.limits or plan.scenario.limits
     limits = Limits(chosen.max_temperature_c, chosen.max_differential_c)
     results = map_in_processes(
@@ -163,7 +169,9 @@ def run_comparison(
         prefix = "base" if name == "base" else f"variants.{name}"
         try:
             _, scenario, _ = validated_scenario(scenario_payload)
-            check_budget(scenario, max_cell_steps, len(scenarios))
+            check_budget(
+                scenario, max_cell_steps, parallel_rounds(len(scenarios)), deadline=deadline
+            )
         except ValidationError as error:
             errors += [{**e, "field": f"{prefix}.{e['field']}"} for e in validation_errors(error)]
         except InvalidScenarioError as error:

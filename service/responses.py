@@ -242,7 +242,10 @@ class ProblemOut(Out):
     title: str = F("Short summary", "Invalid scenario")
     status: int = F("HTTP status", 422)
     detail: str = F("Explanation", "1 field(s) are invalid: see errors")
-    errors: list[FieldErrorOut] | None = F("Each invalid field", default=None)
+    errors: list[FieldErrorOut] | None = F(
+        "Each invalid field (the first 100; errors_count says how many in all)", default=None
+    )
+    errors_count: int | None = F("How many errors there were in all", 1, default=None)
 
 
 class PlanSummaryOut(Out):
@@ -380,7 +383,10 @@ class ReadingsReportOut(Out):
 
     accepted: int = F("New readings stored", 140)
     duplicates: int = F("Readings already stored (same sensor and time), not changed", 4)
-    rejected: list[RejectedRowOut] = F("Rows not stored, each with its reason")
+    rejected: list[RejectedRowOut] = F(
+        "Rows not stored, each with its reason (the first 100; rejected_count says how many)"
+    )
+    rejected_count: int = F("How many rows were rejected in all", 0)
 
 
 class ReadingOut(Out):

@@ -70,7 +70,12 @@ def test_reforecast_moves_to_the_truth(client):
     posted = client.post(f"/v1/pours/{pour}/readings", data=csv_text, content_type="text/csv")
     assert posted.get_json()["accepted"] == 144
     again = client.post(f"/v1/pours/{pour}/readings", data=csv_text, content_type="text/csv")
-    assert again.get_json() == {"accepted": 0, "duplicates": 144, "rejected": []}
+    assert again.get_json() == {
+        "accepted": 0,
+        "duplicates": 144,
+        "rejected": [],
+        "rejected_count": 0,
+    }
     body = client.get(f"/v1/pours/{pour}/forecast").get_json()
     calibration = body["calibration"]
     assert calibration["readings_used"] == 144
