@@ -25,13 +25,18 @@ from service.parallel import map_in_processes
 from service.schemas import ScenarioIn, UncertainScenarioIn
 
 SECONDS_PER_CELL_STEP = 1.3e-6
-"""Wall time of one grid cell for one time step of the budget's estimate [s], on 2D and 3D grids
-(conjugate gradients or sparse LU). Set from scripts/measure_budget.py on this project's 2-core
-machine with one BLAS thread (the largest of its 2D/3D rows, the 3D pier, rounded up); re-measure
-when the solver changes."""
-STEP_OVERHEAD_S = 2.0e-4
-"""Wall time of one time step besides its cells [s]: Python work per step, which dominates 1D
-(measured by the 1D rows of scripts/measure_budget.py, rounded up)."""
+"""CPU time of one grid cell for one time step of the budget's estimate [s], on 2D and 3D grids
+(conjugate gradients or sparse LU). Set by scripts/measure_budget.py on this project's 2-core
+machine with one BLAS thread, 2026-12-02: the 3D pier example took 1.06 us per estimated
+cell-step at 168 h and 1.28 us at 336 h (2D rows 1.3-1.6 us on grids of 900-1900 cells, where
+the steps' fixed cost weighs more); rounded up to cover the largest 3D figure. Re-measure when
+the solver changes."""
+STEP_OVERHEAD_S = 5.0e-4
+"""CPU time of one time step besides its cells [s]: the Python work of a step, which dominates
+1D (the 1D mat example: 0.42 ms per estimated step over 2000 h, rounded up; same run)."""
+SLAB_STEPS_PER_HOUR = 3.0
+"""Steps per hour of forecast a slab takes besides the hydration peak (the 1D mat example under
+daily air cycles and sun: 2.6 per hour over 2000 h, rounded up; same run)."""
 BUDGET_SHARE = 0.5
 """Share of the remaining wall-clock cap (POURHEAT_FORECAST_TIMEOUT_S) that a request's
 estimated time may take: the rest is headroom for a machine shared by other workers (two
@@ -57,10 +62,14 @@ SERIES_PER_SENSOR = 3
 
 
 def estimated_steps(scenario: Scenario) -> int:
-    """Rough number of time steps a forecast will take (for the compute budget): about one an
-    hour under daily air cycles (fewer in steady air), plus those of the hydration peak."""
-    step_h = min(scenario.settings.max_step_h, 1.0)
-    return math.ceil(scenario.duration_h / step_h) + HYDRATION_STEPS
+    """Number of time steps a forecast will take, for the compute budget: those of the
+    hydration peak, plus one an hour on 2D and 3D grids (whose steps lengthen in powers of
+    sqrt(2); the 2D and 3D rows of scripts/measure_budget.py took fewer) or SLAB_STEPS_PER_HOUR
+    on slabs (a daily air cycle and sun keep their steps short), and at least one per
+    ``max_step_h``."""
+    per_hour = SLAB_STEPS_PER_HOUR if scenario.element.shape == "slab" else 1.0
+    per_hour = max(per_hour, 1.0 / scenario.settings.max_step_h)
+    return math.ceil(scenario.duration_h * per_hour) + HYDRATION_STEPS
 
 
 def estimated_seconds(scenario: Scenario) -> float:
