@@ -6,8 +6,7 @@ wherever it runs: gunicorn workers (deploy/gunicorn.conf.py sets the same), the 
 command line, forked process pools (service/parallel.py; children inherit the environment),
 the tests (tests/conftest.py) and the benchmarks (bench/__init__.py). The solver's vector
 operations are small: BLAS threads only contend with each other and with other workers (the
-pier example ran about 114 s from the command line with OpenBLAS's default threads on a 2-core
-machine, against 8 s in the service).
+3D benchmark block ran 1.7x slower with OpenBLAS's default threads on a 2-core machine).
 """
 
 import os
