@@ -242,10 +242,17 @@ def format_plan(body: dict[str, Any]) -> str:
         lines.append(f"{control}: {shown}{within} [{answer['status']}] {answer['note']}")
     if "precooling" in body:
         pre = body["precooling"]
-        lines.append(
-            f"Fresh concrete {pre['fresh_concrete_c']} C; to reach {pre['target_c']} C: ice "
-            f"{pre.get('ice_kg_m3')} kg/m3 or chilled water {pre.get('chilled_water_c')} C"
-        )
+        line = f"Fresh concrete {pre['fresh_concrete_c']} C"
+        if pre.get("target_c") is not None:
+            ice, water = pre.get("ice_kg_m3"), pre.get("chilled_water_c")
+            options = [
+                *([f"ice {ice} kg/m3"] if ice is not None else []),
+                *([f"chilled water {water} C"] if water is not None else []),
+            ]
+            line += f"; to reach {pre['target_c']} C: {' or '.join(options) or 'no ice or water'}"
+        if pre.get("note"):
+            line += f" ({pre['note']})"
+        lines.append(line)
     lines.extend(f"Caution: {caution}" for caution in body.get("cautions", []))
     return "\n".join(lines)
 

@@ -149,3 +149,11 @@ def test_status_contract_has_no_unknown_fields(client):
     pour, _ = _pour_with_readings(client)
     PourStatusOut.model_validate(client.get(f"/v1/pours/{pour}/status").get_json())
     json.dumps(client.get(f"/v1/pours/{pour}/forecast").get_json()["latest_reading_h"])
+
+
+def test_plan_summary_never_prints_none():
+    """A plan without a target temperature (or without an ice amount) prints no `None`."""
+    no_target = {"fresh_concrete_c": 30.0, "target_c": None, "note": "no target"}
+    no_ice = {"fresh_concrete_c": 30.0, "target_c": 17.0, "ice_kg_m3": None, "chilled_water_c": 2}
+    for pre in (no_target, no_ice):
+        assert "None" not in cli.format_plan({"controls": {}, "precooling": pre})
