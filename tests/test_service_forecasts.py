@@ -124,7 +124,7 @@ def test_contract_limits_match_series(
         assert exceeded[0] - 1.0 < status["first_exceeded_h"] <= exceeded[0]
     else:
         assert status["first_exceeded_h"] is None
-    if not status["met"]:
+    if status["met"] is False:  # exceeded (null: not settled, not above the limit yet)
         assert status["first_exceeded_h"] is not None
 
 
