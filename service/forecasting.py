@@ -24,29 +24,32 @@ from service.limits import DEFAULT_FORECAST_TIMEOUT_S
 from service.parallel import map_in_processes
 from service.schemas import ScenarioIn, UncertainScenarioIn
 
-SECONDS_PER_CELL_STEP = 1.3e-6
-"""CPU time of one grid cell for one time step of the budget's estimate [s], on 2D and 3D grids
-(conjugate gradients or sparse LU). Set by scripts/measure_budget.py on this project's 2-core
-machine with one BLAS thread, 2026-12-02: the 3D pier example took 1.06 us per estimated
-cell-step at 168 h and 1.28 us at 336 h (2D rows 1.3-1.6 us on grids of 900-1900 cells, where
-the steps' fixed cost weighs more); rounded up to cover the largest 3D figure. Re-measure when
-the solver changes."""
+SECONDS_PER_CELL_STEP = 1.5e-6
+"""CPU time of one grid cell for one time step [s], on 2D and 3D grids (conjugate gradients or
+sparse LU). Set by scripts/measure_budget.py on this project's 2-core machine with one BLAS
+thread, 2026-12-02, while other jobs kept it busy: the 3D pier example took 1.28-1.48 us per
+cell-step taken over four runs of 240 h and 336 h, and 1.64 us in one run to 650 h at the
+busiest time. Small 2D grids are covered with STEP_OVERHEAD_S (the wall example, 901 cells:
+0.62 s CPU against 0.84 s estimated). Re-measure when the solver changes."""
 STEP_OVERHEAD_S = 5.0e-4
 """CPU time of one time step besides its cells [s]: the Python work of a step, which dominates
-1D (the 1D mat example: 0.42 ms per estimated step over 2000 h, rounded up; same run)."""
+1D (the 1D mat example: 0.48 ms per step taken over 2000 h, rounded up; same run)."""
 SLAB_STEPS_PER_HOUR = 3.0
 """Steps per hour of forecast a slab takes besides the hydration peak (the 1D mat example under
 daily air cycles and sun: 2.6 per hour over 2000 h, rounded up; same run)."""
-BUDGET_SHARE = 0.5
+GRID_STEPS_PER_HOUR = 1.2
+"""Steps per hour of forecast a section or block takes besides the hydration peak (the 3D pier
+example run to 650 h: 1026 steps, 1.19 per hour after the peak's 250; same run)."""
+BUDGET_SHARE = 0.6
 """Share of the remaining wall-clock cap (POURHEAT_FORECAST_TIMEOUT_S) that a request's
-estimated time may take: the rest is headroom for a machine shared by other workers (two
-forecasts on one core take about twice as long) and for the estimate's own error."""
+estimated time may take: the rest is headroom for a machine shared by other workers and for
+the estimate's own error."""
 DEFAULT_MAX_CELL_STEPS = float(
     f"{DEFAULT_FORECAST_TIMEOUT_S * BUDGET_SHARE / SECONDS_PER_CELL_STEP:.2g}"
 )
 """Largest grid cells x estimated time steps one forecast may cost by default, a setting
 (POURHEAT_MAX_CELL_STEPS): DEFAULT_FORECAST_TIMEOUT_S x BUDGET_SHARE / SECONDS_PER_CELL_STEP
-to two digits, so that a 2D or 3D forecast at this cost takes about 20 s here."""
+to two digits, so that a 2D or 3D forecast at this cost takes about 24 s of one core here."""
 HYDRATION_STEPS = 250
 """Typical number of extra steps the solver takes to resolve the hydration peak."""
 MAX_OUTPUT_VALUES = 2_000_000
@@ -65,11 +68,9 @@ SERIES_PER_SENSOR = 3
 
 def estimated_steps(scenario: Scenario) -> int:
     """Number of time steps a forecast will take, for the compute budget: those of the
-    hydration peak, plus one an hour on 2D and 3D grids (whose steps lengthen in powers of
-    sqrt(2); the 2D and 3D rows of scripts/measure_budget.py took fewer) or SLAB_STEPS_PER_HOUR
-    on slabs (a daily air cycle and sun keep their steps short), and at least one per
-    ``max_step_h``."""
-    per_hour = SLAB_STEPS_PER_HOUR if scenario.element.shape == "slab" else 1.0
+    hydration peak, plus GRID_STEPS_PER_HOUR on 2D and 3D grids or SLAB_STEPS_PER_HOUR on slabs
+    (a daily air cycle and sun keep their steps short), and at least one per ``max_step_h``."""
+    per_hour = SLAB_STEPS_PER_HOUR if scenario.element.shape == "slab" else GRID_STEPS_PER_HOUR
     per_hour = max(per_hour, 1.0 / scenario.settings.max_step_h)
     return math.ceil(scenario.duration_h * per_hour) + HYDRATION_STEPS
 
