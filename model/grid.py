@@ -152,9 +152,13 @@ def _axes(scenario: Scenario) -> _Axes:
 
 
 def cell_count(scenario: Scenario) -> int:
-    """Number of grid cells (void included) the scenario would mesh, without meshing it."""
+    """Number of cells the solver computes for the scenario (concrete and ground; the void
+    beside an element on a wider ground layer is not computed), without meshing it: the count
+    of non-void cells that :func:`build_domain` would produce."""
     axes = _axes(scenario)
-    return int(np.prod([e.size - 1 for e in axes.edges_m]))
+    (ex, ey, _), ((x0, x1), (y0, y1), (z0, z1)) = axes.edges_m, axes.concrete
+    ground = (ex.size - 1) * (ey.size - 1) * z0
+    return int(ground + (x1 - x0) * (y1 - y0) * (z1 - z0))
 
 
 def build_domain(scenario: Scenario) -> Domain:

@@ -4,7 +4,9 @@ Each search runs whole forecasts and finds where the margin to the limits crosse
 ``scipy.optimize.brentq``; the answer is then checked so that the returned value meets the
 limits and a value one tolerance beyond misses them. When the limits are met (or missed) over
 the whole allowed range the result says so instead of returning a bracket end as if it were the
-answer.
+answer. A limit whose verdict is "unsettled" (its maximum near the end of the forecast and still
+rising, or a removal's cooling shock not over: see model.results.Forecast.limit_verdict) counts
+as not met.
 """
 
 import math
@@ -14,7 +16,7 @@ from typing import Literal
 
 from scipy.optimize import brentq
 
-from model.results import Forecast, Summary
+from model.results import SHOCK_WINDOW_H, Forecast, Summary
 from model.scenario import Element, Scenario
 from model.solver import forecast
 
@@ -60,9 +62,12 @@ SEARCHES: dict[str, ControlSearch] = {
     "max_thickness_m": ControlSearch(0.3, 6.0, 0.05, False),
 }
 """Default ranges and tolerances per control [C, m2 K/W, h, m]."""
-REMOVAL_WATCH_H = 48.0
+REMOVAL_WATCH_H = SHOCK_WINDOW_H
 """A removal is only searched up to this long before the end of the forecast [h], so that the
 shock after it is inside the forecast."""
+UNSETTLED_MARGIN_C = -0.01
+"""Margin given to a value whose limit verdict is "unsettled" [C]: below zero, so that it
+counts as not met, whatever the margin of its worst value within the forecast."""
 
 
 @dataclass(frozen=True)
@@ -83,6 +88,8 @@ class ControlResult:
     temperature_margin_c, differential_margin_c : limit minus worst forecast value [C]
     forecasts_run : number of whole forecasts the search took
     note : plain-language explanation
+    unsettled : why a limit is not settled within the forecast at the value shown (None when
+        every limit is settled there)
     """
 
     control: str
@@ -96,6 +103,7 @@ class ControlResult:
     differential_margin_c: float
     forecasts_run: int
     note: str
+    unsettled: str | None = None
 
 
 def margins_c(summary: Summary, limits: Limits) -> tuple[float, float]:
@@ -113,7 +121,8 @@ def with_control(scenario: Scenario, control: str, value: float) -> Scenario:
     if control == "max_thickness_m":
         if scenario.element.shape != "slab":
             raise ValueError("max_thickness_m applies to slabs only")
-        return replace(scenario, element=Element("slab", height_m=value))
+        inside = tuple(s for s in scenario.sensors if s.depth_m <= value)
+        return replace(scenario, element=Element("slab", height_m=value), sensors=inside)
     top = scenario.face("top")
     if control == "min_top_insulation_r_m2k_w":
         new_top = replace(top, insulation_r_m2k_w=value)
@@ -157,18 +166,34 @@ def solve_control(
             f"{control}: duration_h is too short to search removal times; it must "
             f"exceed {search.low + REMOVAL_WATCH_H:g} h"
         )
-    cache: dict[float, Summary] = {}
+    cache: dict[float, tuple[Summary, str | None]] = {}
     differential_only = control == "min_top_insulation_r_m2k_w"
+    watched = {"differential_c": limits.max_differential_c}
+    if not differential_only:
+        watched["core_c"] = limits.max_temperature_c
 
-    def summary_at(value: float) -> Summary:
+    def evaluated(value: float) -> tuple[Summary, str | None]:
+        """The summary at ``value`` and why a watched limit is unsettled there (or None)."""
         key = round(value, 9)
         if key not in cache:
-            cache[key] = run(with_control(scenario, control, value)).summary
+            result = run(with_control(scenario, control, value))
+            verdicts = [result.limit_verdict(q, limit) for q, limit in watched.items()]
+            reasons = [
+                f"the {'differential' if q == 'differential_c' else 'peak temperature'}: {v.reason}"
+                for q, v in zip(watched, verdicts, strict=True)
+                if v.verdict == "unsettled"
+            ]
+            cache[key] = (result.summary, "; ".join(reasons) or None)
         return cache[key]
 
+    def summary_at(value: float) -> Summary:
+        return evaluated(value)[0]
+
     def margin(value: float) -> float:
-        temperature, differential = margins_c(summary_at(value), limits)
-        return differential if differential_only else min(temperature, differential)
+        summary, unsettled = evaluated(value)
+        temperature, differential = margins_c(summary, limits)
+        worst = differential if differential_only else min(temperature, differential)
+        return min(worst, UNSETTLED_MARGIN_C) if unsettled else worst
 
     tol = search.tolerance
     safe_end, risky_end = (
@@ -184,6 +209,19 @@ def solve_control(
             f"no value from {search.low:g} to {search.high:g} meets the limits; change "
             "another control (placement temperature, mix, insulation, lift size)"
         )
+        if control == "earliest_insulation_removal_h":
+            note += (
+                f"; removals are searched up to {REMOVAL_WATCH_H:g} h before the end of the "
+                f"forecast ({scenario.duration_h:g} h), so a longer duration_h may find a later "
+                "removal hour that meets them"
+            )
+        unsettled = evaluated(safe_end)[1]
+        if unsettled is not None and min(margins_c(summary_at(safe_end), limits)) >= 0:
+            note = (
+                f"no value from {search.low:g} to {search.high:g} is shown to meet the limits "
+                f"within the forecast: even at {safe_end:g}, {unsettled}; extend duration_h "
+                "and plan again"
+            )
     else:
         step = direction * tol / 4
 
@@ -197,7 +235,20 @@ def solve_control(
             value += step
         status, note = "found", "most permissive value that meets the limits"
     shown = value if value is not None else safe_end
-    summary = summary_at(shown)
+    summary, unsettled = evaluated(shown)
+    all_ids = {s.id for s in scenario.sensors}
+    dropped = sorted(
+        {
+            i
+            for v in cache
+            for i in all_ids - {s.id for s in with_control(scenario, control, v).sensors}
+        }
+    )
+    if dropped:
+        note += (
+            f"; sensors {', '.join(dropped)} lie outside some trial geometries and were left "
+            "out of those forecasts (sensors do not change the limits)"
+        )
     temperature_margin, differential_margin = margins_c(summary, limits)
     if differential_only and value is not None and temperature_margin < 0:
         status = "peak_limit_binds"
@@ -217,4 +268,5 @@ def solve_control(
         differential_margin_c=differential_margin,
         forecasts_run=len(cache),
         note=note,
+        unsettled=unsettled,
     )

@@ -66,14 +66,14 @@ class Recorder:
         t_conc = temperature
         if self.concrete_cells.size < temperature.shape[1]:
             t_conc = temperature[:, self.concrete_cells]
-        rows = np.arange(temperature.shape[0])
-        hottest = self.concrete_cells[np.argmax(t_conc, axis=1)]
         out = self.reduced
         out["core"].append(t_conc.max(axis=1))
         out["coolest"].append(t_conc.min(axis=1))
         out["mean"].append(t_conc @ self.volume_weights)
-        out["core_te"].append(te[rows, hottest])
-        out["core_alpha"].append(alpha[rows, hottest])
+        # The most mature point: a maximum over fixed points, so it never decreases (the
+        # hottest point may move, and its own age jump back and forth with it).
+        out["core_te"].append(te[:, self.concrete_cells].max(axis=1))
+        out["core_alpha"].append(alpha[:, self.concrete_cells].max(axis=1))
         out["samples"].append((self.sample_matrix @ temperature.T).T)
         out["sample_te"].append((self.sample_matrix @ te.T).T)
 
@@ -87,12 +87,14 @@ class Recorder:
         samples = reduced["samples"]
         faces = {name: samples[:, rows].min(axis=1) for name, rows in sampler.face_rows.items()}
         layer = np.concatenate(list(sampler.face_rows.values()))
-        layer_values = samples[:, layer]
-        coolest_sample = layer[np.argmin(layer_values, axis=1)]
-        surface = layer_values.min(axis=1)
-        steps = np.arange(time.size)
+        surface = samples[:, layer].min(axis=1)
+        # Equivalent ages at fixed points, so that they never decrease: each face's is the least
+        # of its inset points', and the near-surface one the least over every exposed face.
         sample_te = reduced["sample_te"]
-        surface_te = sample_te[steps, coolest_sample]
+        faces_te = {
+            name: sample_te[:, rows].min(axis=1) for name, rows in sampler.face_rows.items()
+        }
+        surface_te = sample_te[:, layer].min(axis=1)
         differential = core - surface
         coolest = reduced["coolest"]
         spread = core - coolest
@@ -126,6 +128,7 @@ class Recorder:
             "core_ns": core_ns,
             "surface_ns": surface_ns,
             **{f"face {n}": v for n, v in faces.items()},
+            **{f"face te {n}": v for n, v in faces_te.items()},
             **{f"sensor {s}": samples[:, row] for s, row in sampler.sensor_rows.items()},
             **{f"sensor te {s}": sample_te[:, row] for s, row in sampler.sensor_rows.items()},
         }
@@ -149,6 +152,7 @@ class Recorder:
             sensors_c={s: reported[f"sensor {s}"] for s in sampler.sensor_rows},
             core_equivalent_age_h=reported["core_te"],
             surface_equivalent_age_h=reported["surface_te"],
+            faces_equivalent_age_h={n: reported[f"face te {n}"] for n in faces_te},
             core_degree_of_hydration=reported["core_alpha"],
             mean_c=reported["mean"],
             sensors_equivalent_age_h={s: reported[f"sensor te {s}"] for s in sampler.sensor_rows},

@@ -8,7 +8,8 @@ Definitions (see the README):
 - differential: hottest point minus near-surface temperature; also hottest minus coolest point.
 """
 
-from dataclasses import dataclass
+from dataclasses import dataclass, field
+from typing import Literal
 
 import numpy as np
 from numpy.typing import NDArray
@@ -16,6 +17,50 @@ from scipy.interpolate import make_interp_spline
 
 CROSSING_RESOLUTION_H = 0.01
 """Resolution of the first time a limit is exceeded [h]."""
+SETTLE_WINDOW_H = 24.0
+"""A maximum reached within this long before the end of a forecast is "near the end" [h]: one
+daily cycle of the air (common practice, no source)."""
+RISING_WINDOW_H = 1.0
+"""A quantity is "still rising at the end" when its value at the end exceeds its value this
+long before the end [h]."""
+PROJECTION_H = 72.0
+"""A quantity still rising at the end is projected this far past the end at the rate of its
+rise over the last SETTLE_WINDOW_H [h] (three daily cycles; common practice, no source): a
+limit it would reach by then is not settled. Forecasts that are not settled are to be extended
+by at least this much."""
+SHOCK_WINDOW_H = 48.0
+"""A removal of insulation or forms this close to the end of a forecast [h] leaves its cooling
+shock unfinished: the differential it causes may still grow (common practice, no source; the
+removal search of model.planning keeps removals this far from the end too)."""
+
+Verdict = Literal["met", "exceeded", "unsettled"]
+
+
+@dataclass(frozen=True)
+class LimitVerdict:
+    """Whether a forecast keeps a limit.
+
+    Attributes
+    ----------
+    verdict : "exceeded" (the worst value is above the limit), "unsettled" (not above it, but
+        not settled within the forecast: the maximum is near the end and still rising, or a
+        removal's cooling shock is not over), or "met"
+    worst : largest value of the quantity over every solver step [C]
+    margin : limit minus worst [C]
+    first_exceeded_h : first time the quantity exceeds the limit [h], None if it never does
+    reason : why the verdict is "unsettled" (None otherwise)
+    """
+
+    verdict: Verdict
+    worst: float
+    margin: float
+    first_exceeded_h: float | None
+    reason: str | None = None
+
+    @property
+    def met(self) -> bool | None:
+        """True only when met; False when exceeded; None when not settled (never True)."""
+        return {"met": True, "exceeded": False, "unsettled": None}[self.verdict]
 
 
 @dataclass(frozen=True)
@@ -29,7 +74,7 @@ class Summary:
     max_spread_c, max_spread_time_h : largest hottest-minus-coolest point [C], when [h]
     min_surface_temperature_c : lowest near-surface temperature [C]
     final_core_equivalent_age_h, final_surface_equivalent_age_h : equivalent age at 21.1 C at the
-        end, at the hottest point and at the coolest near-surface point [h]
+        end, the greatest of the concrete's points and the least of the near-surface points [h]
     """
 
     peak_temperature_c: float
@@ -72,6 +117,13 @@ class Forecast:
     Series attributes are arrays on ``time_h`` [h]; temperatures in C, equivalent ages in h,
     Nurse-Saul factors in C h, degrees of hydration dimensionless. ``every_step`` holds
     time_h, core_c, surface_c and differential_c at every solver step, the data of the summary.
+
+    Equivalent ages (Arrhenius, 21.1 C) are integrated at fixed points and never decrease:
+    ``surface_equivalent_age_h`` is the least over the points of the near-surface layer of every
+    exposed face, ``faces_equivalent_age_h`` the least over each face's own layer,
+    ``sensors_equivalent_age_h`` at each sensor; ``core_equivalent_age_h`` (and
+    ``core_degree_of_hydration``) is the greatest over the points of the concrete, the most
+    mature point, normally the core.
     """
 
     time_h: NDArray[np.float64]
@@ -96,6 +148,7 @@ class Forecast:
     cells: int
     every_step: dict[str, NDArray[np.float64]]
     restarts_h: tuple[float, ...] = ()
+    faces_equivalent_age_h: dict[str, NDArray[np.float64]] = field(default_factory=dict)
 
     def first_time_above_h(self, quantity: str, limit: float) -> float | None:
         """First time ``quantity`` ("core_c", "surface_c" or "differential_c") exceeds
@@ -116,6 +169,54 @@ class Forecast:
         )
         above = np.flatnonzero(dense_output(time, list(self.restarts_h), fine)(values) > limit)
         return float(fine[above[0]])
+
+    def unsettled_reason(self, quantity: str, limit: float, removal_shock: bool) -> str | None:
+        """Why the maximum of ``quantity`` ("core_c" or "differential_c") is not settled within
+        the forecast with respect to ``limit`` [C], or None when it is.
+
+        Not settled when either (the first that applies is the reason given)
+
+        1. ``removal_shock`` is set (for the differential) and insulation or forms come off
+           within the last SHOCK_WINDOW_H (48 h) of the forecast; or
+        2. its maximum falls within the last SETTLE_WINDOW_H (24 h) of the forecast, it is still
+           rising at the end (the value at the end is above the value RISING_WINDOW_H, 1 h,
+           before it), and its rise over the last SETTLE_WINDOW_H, continued for PROJECTION_H
+           (72 h) more, would reach ``limit``.
+        """
+        time, values = self.every_step["time_h"], self.every_step[quantity]
+        end = float(time[-1])
+        worst_time = float(time[int(np.argmax(values))])
+        last = float(values[-1])
+        hour_before, day_before = np.interp(
+            [end - RISING_WINDOW_H, end - SETTLE_WINDOW_H], time, values
+        )
+        projected = last + (last - day_before) * PROJECTION_H / SETTLE_WINDOW_H
+        late = [t for t in self.restarts_h if t > end - SHOCK_WINDOW_H]
+        if removal_shock and late:
+            return (
+                f"insulation or forms come off at {late[-1]:g} h, less than "
+                f"{SHOCK_WINDOW_H:g} h before the end of the forecast ({end:g} h), so the "
+                "cooling shock is not over"
+            )
+        if worst_time >= end - SETTLE_WINDOW_H and last > hour_before and projected >= limit:
+            return (
+                f"its maximum is at {worst_time:.1f} h, near the end of the forecast "
+                f"({end:g} h), and still rising: at the rate of the last {SETTLE_WINDOW_H:g} h "
+                f"it would reach the limit by {end + PROJECTION_H:g} h"
+            )
+        return None
+
+    def limit_verdict(self, quantity: str, limit: float) -> LimitVerdict:
+        """The verdict on ``limit`` for ``quantity`` ("core_c" for the peak temperature,
+        "differential_c" for the differential, whose removal shocks are watched too) [C]."""
+        worst = float(np.max(self.every_step[quantity]))
+        first = self.first_time_above_h(quantity, limit)
+        if worst > limit:
+            return LimitVerdict("exceeded", worst, limit - worst, first)
+        reason = self.unsettled_reason(quantity, limit, removal_shock=quantity == "differential_c")
+        if reason is not None:
+            return LimitVerdict("unsettled", worst, limit - worst, first, reason)
+        return LimitVerdict("met", worst, limit - worst, first)
 
 
 @dataclass(frozen=True)

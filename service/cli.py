@@ -7,7 +7,9 @@ service validate and answer the same way. Exit codes of ``pourheat forecast``:
     1  an output file (--csv, --json) could not be written
     2  bad input: unreadable file, invalid JSON, or an invalid scenario (each "field: message"
        is printed to stderr); also argparse's usage errors
-    3  --fail-on-limit was given and a limit is forecast to be exceeded
+    3  --fail-on-limit was given and a limit is forecast to be exceeded, or is not settled
+       within the forecast (its maximum near the end and still rising, or a removal's cooling
+       shock not over: verdict "unsettled")
 """
 
 import argparse
@@ -29,6 +31,7 @@ EXIT_OK = 0
 EXIT_OUTPUT_ERROR = 1
 EXIT_BAD_INPUT = 2
 EXIT_LIMIT_EXCEEDED = 3
+EXIT_READINGS_STALE = 4
 
 DEFAULT_PORT = 8000
 APP_SPEC = "service.app:create_app()"
@@ -36,8 +39,8 @@ GUNICORN_CONF = Path("deploy") / "gunicorn.conf.py"
 
 EPILOG = """exit codes: 0 ok; 1 an output file could not be written; 2 bad input (unreadable file,
 invalid JSON, invalid scenario: each "field: message" on stderr); 3 --fail-on-limit and a limit
-is forecast to be exceeded. Forecasts are estimates: limits come from the governing
-specification and the engineer of record; confirm by monitoring."""
+is forecast to be exceeded or not settled within the forecast. Forecasts are estimates: limits
+come from the governing specification and the engineer of record; confirm by monitoring."""
 
 
 class InputError(Exception):
@@ -152,7 +155,12 @@ def format_summary(body: dict[str, Any], unit: str = "C") -> str:
     for key, status in s["limits"].items():
         limit = _value(status, "limit", suffix)
         margin = _value(status, "margin", suffix)
-        if status["met"]:
+        if status.get("verdict") == "unsettled":
+            verdict = (
+                f"NOT SETTLED within the forecast (margin {margin:.1f} {unit} so far, not "
+                "counted as met): extend duration_h"
+            )
+        elif status["met"]:
             verdict = f"met (margin {margin:.1f} {unit})"
         else:
             verdict = f"EXCEEDED by {-margin:.1f} {unit}"
@@ -168,8 +176,13 @@ def format_summary(body: dict[str, Any], unit: str = "C") -> str:
 
 
 def limits_exceeded(body: dict[str, Any]) -> list[str]:
-    """Names of the limits the forecast says are exceeded (summary.limits.*.met is False)."""
-    return [_limit_name(k) for k, v in body["summary"]["limits"].items() if not v["met"]]
+    """Names of the limits the forecast does not show as met: exceeded (``met`` false) or not
+    settled within the forecast (``met`` null, verdict "unsettled")."""
+    return [
+        _limit_name(k) + (" (not settled)" if v["met"] is None else "")
+        for k, v in body["summary"]["limits"].items()
+        if v["met"] is not True
+    ]
 
 
 def _print_errors(errors: list[dict[str, str]]) -> None:
@@ -242,10 +255,17 @@ def format_plan(body: dict[str, Any]) -> str:
         lines.append(f"{control}: {shown}{within} [{answer['status']}] {answer['note']}")
     if "precooling" in body:
         pre = body["precooling"]
-        lines.append(
-            f"Fresh concrete {pre['fresh_concrete_c']} C; to reach {pre['target_c']} C: ice "
-            f"{pre.get('ice_kg_m3')} kg/m3 or chilled water {pre.get('chilled_water_c')} C"
-        )
+        line = f"Fresh concrete {pre['fresh_concrete_c']} C"
+        if pre.get("target_c") is not None:
+            ice, water = pre.get("ice_kg_m3"), pre.get("chilled_water_c")
+            options = [
+                *([f"ice {ice} kg/m3"] if ice is not None else []),
+                *([f"chilled water {water} C"] if water is not None else []),
+            ]
+            line += f"; to reach {pre['target_c']} C: {' or '.join(options) or 'no ice or water'}"
+        if pre.get("note"):
+            line += f" ({pre['note']})"
+        lines.append(line)
     lines.extend(f"Caution: {caution}" for caution in body.get("cautions", []))
     return "\n".join(lines)
 
@@ -318,15 +338,27 @@ def _http(
 def cmd_watch(args: argparse.Namespace) -> int:
     """``pourheat watch``: post new readings of a pour, print its status line.
 
-    Exit 3 when a limit is measured or forecast to be exceeded, 2 when the server refuses the
-    input (4xx), 1 when it cannot be reached or fails.
+    Exit 3 when a limit is measured or forecast to be exceeded, or not settled within the
+    forecast; 4 when the limits are met but the newest reading is stale (older than
+    service.monitoring.STALE_READINGS_H: the logger may have stopped); 2 when the readings file
+    cannot be read or the server refuses the input (4xx); 1 when the server cannot be reached
+    or fails.
     """
     from service.monitoring import status_line
 
     base = f"{args.server.rstrip('/')}/v1/pours/{args.pour}"
-    try:
-        if args.readings:
+    data = None
+    if args.readings:
+        try:
             data = Path(args.readings).read_bytes()
+        except OSError as error:
+            print(
+                f"pourheat: cannot read readings file {args.readings}: {error.strerror or error}",
+                file=sys.stderr,
+            )
+            return EXIT_BAD_INPUT
+    try:
+        if data is not None:
             status, body = _http("POST", f"{base}/readings", data, "text/csv")
             if status >= 400:
                 _report_problem(status, body)
@@ -347,7 +379,9 @@ def cmd_watch(args: argparse.Namespace) -> int:
         _report_problem(status, body)
         return EXIT_BAD_INPUT if status < 500 else EXIT_OUTPUT_ERROR
     print(status_line(body))
-    return EXIT_LIMIT_EXCEEDED if not body["limits_met"] else EXIT_OK
+    if not body["limits_met"]:
+        return EXIT_LIMIT_EXCEEDED
+    return EXIT_READINGS_STALE if body.get("readings_stale") else EXIT_OK
 
 
 def cmd_refresh(args: argparse.Namespace) -> int:
@@ -503,7 +537,9 @@ def build_parser() -> argparse.ArgumentParser:
         "watch",
         help="post new readings of a stored pour and print its status (for cron)",
         description="Post a data-logger CSV (time,sensor,temperature_c) to a stored pour, then "
-        "print its calibrated status. Exit 3 when a limit is measured or forecast exceeded. "
+        "print its calibrated status. Exit 3 when a limit is measured or forecast exceeded (or "
+        "not settled within the forecast), 4 when the newest reading is stale (the logger may "
+        "have stopped), 2 when the readings file cannot be read. "
         "When the service requires a token, put it in the environment as POURHEAT_TOKEN.",
         epilog=EPILOG,
     )

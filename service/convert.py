@@ -10,7 +10,7 @@ from model.ambient import Ambient
 from model.cements import CementComposition, cement_preset
 from model.hydration import Binder, HydrationParameters, estimate_hydration
 from model.properties import MixMasses
-from model.results import Forecast
+from model.results import PROJECTION_H, Forecast
 from model.scenario import (
     Concrete,
     Element,
@@ -161,15 +161,37 @@ def _rounded(values: np.ndarray, digits: int) -> list[float]:
     return [round(float(v), digits) for v in values]
 
 
-def limit_status(result: Forecast, quantity: str, worst: float, limit: float) -> dict:
+LIMIT_QUANTITIES = {"max_temperature_c": "core_c", "max_differential_c": "differential_c"}
+"""The series whose maximum each limit bounds."""
+
+
+def limit_status(result: Forecast, quantity: str, limit: float) -> dict:
     """Whether a limit is met, the margin (limit minus worst value) and when it is first
-    exceeded; all three from every solver step."""
-    return {
+    exceeded, all from every solver step. ``met`` is true, false, or null when the verdict is
+    "unsettled" (not settled within the forecast; see model.results.Forecast.limit_verdict):
+    null is never true, so a consumer that tests ``met`` treats it as not met."""
+    verdict = result.limit_verdict(quantity, limit)
+    status = {
         "limit_c": limit,
-        "met": bool(worst <= limit),
-        "margin_c": rounding.temperature(limit - worst),
-        "first_exceeded_h": rounding.hours(result.first_time_above_h(quantity, limit)),
+        "met": verdict.met,
+        "verdict": verdict.verdict,
+        "margin_c": rounding.temperature(verdict.margin),
+        "first_exceeded_h": rounding.hours(verdict.first_exceeded_h),
     }
+    if verdict.reason is not None:
+        status["unsettled_reason"] = verdict.reason
+    return status
+
+
+def unsettled_cautions(limits: dict[str, dict], duration_h: float) -> list[str]:
+    """A caution for each limit whose verdict is "unsettled", saying to extend duration_h."""
+    return [
+        f"The {key.removesuffix('_c').replace('_', ' ')} limit is not settled within the "
+        f"forecast: {status['unsettled_reason']}. It is not reported as met; extend duration_h "
+        f"(e.g. to {duration_h + PROJECTION_H:g} h) and forecast again."
+        for key, status in limits.items()
+        if status["verdict"] == "unsettled"
+    ]
 
 
 def forecast_json(
@@ -190,12 +212,8 @@ def forecast_json(
         "final_core_equivalent_age_h": hours(s.final_core_equivalent_age_h),
         "final_surface_equivalent_age_h": hours(s.final_surface_equivalent_age_h),
         "limits": {
-            "max_temperature_c": limit_status(
-                result, "core_c", s.peak_temperature_c, limits.max_temperature_c
-            ),
-            "max_differential_c": limit_status(
-                result, "differential_c", s.max_differential_c, limits.max_differential_c
-            ),
+            key: limit_status(result, quantity, getattr(limits, key))
+            for key, quantity in LIMIT_QUANTITIES.items()
         },
     }
     t, h = rounding.TEMPERATURE_DIGITS, rounding.HOURS_DIGITS
@@ -216,6 +234,12 @@ def forecast_json(
         "surface_nurse_saul_ch": _rounded(result.surface_nurse_saul_ch, rounding.NURSE_SAUL_DIGITS),
         "faces_c": {name: _rounded(v, t) for name, v in result.faces_c.items()},
         "sensors": {name: _rounded(v, t) for name, v in result.sensors_c.items()},
+        "faces_equivalent_age_h": {
+            name: _rounded(v, h) for name, v in result.faces_equivalent_age_h.items()
+        },
+        "sensors_equivalent_age_h": {
+            name: _rounded(v, h) for name, v in result.sensors_equivalent_age_h.items()
+        },
     }
     more_summary, more_series = screening_parts(request, scenario, result)
     summary.update(more_summary)
@@ -223,7 +247,7 @@ def forecast_json(
     return {
         "summary": summary,
         "series": series,
-        "cautions": list(CAUTIONS),
+        "cautions": [*CAUTIONS, *unsettled_cautions(summary["limits"], scenario.duration_h)],
         "hydration": {"origin": hydration_origin, **hydration_json(scenario.concrete.hydration)},
         "assumptions": assumptions(request, scenario, hydration_origin),
         "numerics": {

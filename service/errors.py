@@ -8,6 +8,22 @@ from werkzeug.exceptions import HTTPException
 
 PROBLEM_JSON = "application/problem+json"
 SHAPE_TAGS = ("slab", "section", "block")
+MAX_LISTED_ERRORS = 100
+"""Most entries of an error list in one response (problem details ``errors``, an upload's
+``rejected`` rows): the first ones are listed and the total is given as a count."""
+MAX_ECHO_CHARS = 40
+"""Longest piece of the caller's input quoted back in a message [characters]."""
+
+
+def capped(entries: list[Any]) -> tuple[list[Any], int]:
+    """The first MAX_LISTED_ERRORS entries of a list, and how many there were in all."""
+    return entries[:MAX_LISTED_ERRORS], len(entries)
+
+
+def echo(value: Any) -> str:
+    """``repr(value)``, cut to MAX_ECHO_CHARS characters, to quote input back in a message."""
+    text = repr(value)
+    return text if len(text) <= MAX_ECHO_CHARS else text[: MAX_ECHO_CHARS - 3] + "..."
 
 
 class InvalidScenarioError(ValueError):
@@ -25,7 +41,8 @@ class InvalidScenarioError(ValueError):
 def problem(
     status: int, title: str, detail: str, errors: list[dict[str, str]] | None = None
 ) -> Response:
-    """A problem-details response."""
+    """A problem-details response; ``errors`` is cut to its first MAX_LISTED_ERRORS entries,
+    with ``errors_count`` the number there were in all."""
     body: dict[str, Any] = {
         "type": "about:blank",
         "title": title,
@@ -33,7 +50,7 @@ def problem(
         "detail": detail,
     }
     if errors is not None:
-        body["errors"] = errors
+        body["errors"], body["errors_count"] = capped(errors)
     return Response(json.dumps(body), status=status, mimetype=PROBLEM_JSON)
 
 

@@ -4,6 +4,8 @@ Shared by the HTTP blueprints and the command line so both answer the same way.
 """
 
 import math
+import os
+import time
 from dataclasses import asdict
 from typing import Any
 
@@ -23,49 +25,141 @@ from model.uncertainty import (
 from service.checks import cross_field_errors
 from service.convert import forecast_json, scenario_from
 from service.errors import InvalidScenarioError
+from service.limits import DEFAULT_FORECAST_TIMEOUT_S
 from service.parallel import Progress, run_many
 from service.rounding import temperature
 from service.schemas import ScenarioIn, UncertainScenarioIn
 
-DEFAULT_MAX_CELL_STEPS = 40_000_000
-"""Largest grid cells x time steps one forecast may cost (about 15 s on one core); a setting
-(POURHEAT_MAX_CELL_STEPS)."""
-BATCH_BUDGET_FACTOR = 8
-"""Requests that run many forecasts (plans, comparisons, uncertainty bands) may cost this many
-times the single-forecast budget in all."""
+SECONDS_PER_CELL_STEP = 1.5e-6
+"""CPU time of one grid cell for one time step [s], on 2D and 3D grids (conjugate gradients or
+sparse LU). Set by scripts/measure_budget.py on this project's 2-core machine with one BLAS
+thread, 2026-12-02, while other jobs kept it busy: the 3D pier example took 1.28-1.48 us per
+cell-step taken over four runs of 240 h and 336 h, and 1.64 us in one run to 650 h at the
+busiest time. Small 2D grids are covered with STEP_OVERHEAD_S (the wall example, 901 cells:
+0.62 s CPU against 0.84 s estimated). Re-measure when the solver changes."""
+STEP_OVERHEAD_S = 5.0e-4
+"""CPU time of one time step besides its cells [s]: the Python work of a step, which dominates
+1D (the 1D mat example: 0.48 ms per step taken over 2000 h, rounded up; same run)."""
+SLAB_STEPS_PER_HOUR = 3.0
+"""Steps per hour of forecast a slab takes besides the hydration peak (the 1D mat example under
+daily air cycles and sun: 2.6 per hour over 2000 h, rounded up; same run)."""
+GRID_STEPS_PER_HOUR = 1.2
+"""Steps per hour of forecast a section or block takes besides the hydration peak (the 3D pier
+example run to 650 h: 1026 steps, 1.19 per hour after the peak's 250; same run)."""
+BUDGET_SHARE = 0.6
+"""Share of the remaining wall-clock cap (POURHEAT_FORECAST_TIMEOUT_S) that a request's
+estimated time may take: the rest is headroom for a machine shared by other workers and for
+the estimate's own error."""
+DEFAULT_MAX_CELL_STEPS = float(
+    f"{DEFAULT_FORECAST_TIMEOUT_S * BUDGET_SHARE / SECONDS_PER_CELL_STEP:.2g}"
+)
+"""Largest grid cells x estimated time steps one forecast may cost by default, a setting
+(POURHEAT_MAX_CELL_STEPS): DEFAULT_FORECAST_TIMEOUT_S x BUDGET_SHARE / SECONDS_PER_CELL_STEP
+to two digits, so that a 2D or 3D forecast at this cost takes about 24 s of one core here."""
 HYDRATION_STEPS = 250
 """Typical number of extra steps the solver takes to resolve the hydration peak."""
+MAX_OUTPUT_VALUES = 2_000_000
+"""Most numbers one forecast may report (reported times x series, as counted by
+:func:`output_values`), fixed here. Bounds the response and the memory a request holds: a 1D
+forecast just inside it (20 sensors, 210 h every 0.01 h) answered 7.9 MB of JSON and raised
+the process's peak resident size by 67 MB."""
+BASE_SERIES = 20
+"""Series every forecast reports besides faces and sensors (time, core, surface, ... and the
+screening series), an upper bound for the output budget."""
+SERIES_PER_FACE = 2
+"""Series reported per face: temperature and equivalent age."""
+SERIES_PER_SENSOR = 3
+"""Series reported per sensor: temperature, equivalent age and (with screening) strength."""
 
 
 def estimated_steps(scenario: Scenario) -> int:
-    """Rough number of time steps a forecast will take (for the compute budget): about one an
-    hour under daily air cycles (fewer in steady air), plus those of the hydration peak."""
-    step_h = min(scenario.settings.max_step_h, 1.0)
-    return math.ceil(scenario.duration_h / step_h) + HYDRATION_STEPS
+    """Number of time steps a forecast will take, for the compute budget: those of the
+    hydration peak, plus GRID_STEPS_PER_HOUR on 2D and 3D grids or SLAB_STEPS_PER_HOUR on slabs
+    (a daily air cycle and sun keep their steps short), and at least one per ``max_step_h``."""
+    per_hour = SLAB_STEPS_PER_HOUR if scenario.element.shape == "slab" else GRID_STEPS_PER_HOUR
+    per_hour = max(per_hour, 1.0 / scenario.settings.max_step_h)
+    return math.ceil(scenario.duration_h * per_hour) + HYDRATION_STEPS
+
+
+def estimated_seconds(scenario: Scenario) -> float:
+    """Estimated wall time of one forecast on this project's machine [s]: estimated steps x
+    (STEP_OVERHEAD_S + cells x SECONDS_PER_CELL_STEP)."""
+    return estimated_steps(scenario) * (
+        STEP_OVERHEAD_S + cell_count(scenario) * SECONDS_PER_CELL_STEP
+    )
+
+
+def output_values(scenario: Scenario) -> tuple[int, int]:
+    """(reported times, series) of a forecast: an upper bound on what it reports."""
+    times = math.floor(scenario.duration_h / scenario.output_interval_h + 1e-9) + 2
+    series = BASE_SERIES + SERIES_PER_FACE * 6 + SERIES_PER_SENSOR * len(scenario.sensors)
+    return times, series
+
+
+def parallel_rounds(runs: int) -> int:
+    """Forecasts in a row on the busiest core when ``runs`` run across the CPU cores."""
+    return math.ceil(runs / (os.cpu_count() or 1))
+
+
+def _refuse(field: str, message: str) -> None:
+    raise InvalidScenarioError([{"field": field, "message": message}])
+
+
+def check_output(scenario: Scenario) -> None:
+    """Refuse a forecast whose reported series would exceed MAX_OUTPUT_VALUES, saying how to
+    reduce them (422 naming output_interval_h)."""
+    times, series = output_values(scenario)
+    if times * series <= MAX_OUTPUT_VALUES:
+        return
+    interval = scenario.duration_h * series / MAX_OUTPUT_VALUES
+    _refuse(
+        "output_interval_h",
+        f"the forecast would report about {times * series:.3g} values ({times} times x "
+        f"{series} series), more than {MAX_OUTPUT_VALUES:.3g}; raise output_interval_h to at "
+        f"least {math.ceil(interval * 100) / 100:g} h, shorten duration_h, or ask for fewer "
+        "sensors",
+    )
 
 
 def check_budget(
-    scenario: Scenario, max_cell_steps: float, runs: int = 1, field: str = "resolution"
+    scenario: Scenario,
+    max_cell_steps: float,
+    runs: int = 1,
+    field: str = "resolution",
+    deadline: float | None = None,
 ) -> None:
-    """Refuse work whose grid x steps x runs would exceed the budget, saying how to coarsen."""
-    cells = cell_count(scenario)
-    cost = cells * estimated_steps(scenario) * runs
-    budget = max_cell_steps * (1 if runs == 1 else BATCH_BUDGET_FACTOR)
-    if cost > budget:
-        res = scenario.settings
-        runs_text = f" x {runs} forecasts" if runs > 1 else ""
-        advice = (
-            f"coarsen it, e.g. resolution.max_cell_m {2 * res.max_cell_m:g}, surface_cell_m "
-            f"{2 * res.surface_cell_m:g}, growth {min(1.5, res.growth + 0.1):g}, or shorten "
-            "duration_h, or model a slab or section instead of a block"
-        )
-        if runs > 1:
-            advice += ", or ask for fewer runs"
-        message = (
-            f"the grid would have {cells} cells and about {estimated_steps(scenario)} steps"
-            f"{runs_text} ({cost:.3g} cell-steps), more than the budget of {budget:.3g}; {advice}"
-        )
-        raise InvalidScenarioError([{"field": field, "message": message}])
+    """Refuse work that would exceed the budget, saying how to reduce it (422).
+
+    ``runs`` is the number of forecasts run one after the other (on the busiest core);
+    grid cells x estimated steps x runs must stay within ``max_cell_steps``, and, when a
+    ``deadline`` (a ``time.monotonic()`` value) is given, the estimated time
+    (:func:`estimated_seconds` x runs) within BUDGET_SHARE of the time left. The reported
+    series must stay within MAX_OUTPUT_VALUES (:func:`check_output`).
+    """
+    check_output(scenario)
+    cells, steps = cell_count(scenario), estimated_steps(scenario)
+    cost = cells * steps * runs
+    seconds = estimated_seconds(scenario) * runs
+    allowed_s = None if deadline is None else BUDGET_SHARE * (deadline - time.monotonic())
+    if cost <= max_cell_steps and (allowed_s is None or seconds <= allowed_s):
+        return
+    res = scenario.settings
+    runs_text = f" x {runs} forecasts in a row" if runs > 1 else ""
+    advice = (
+        f"coarsen it, e.g. resolution.max_cell_m {2 * res.max_cell_m:g}, surface_cell_m "
+        f"{2 * res.surface_cell_m:g}, growth {min(1.5, res.growth + 0.1):g}, or shorten "
+        "duration_h, or model a slab or section instead of a block"
+    )
+    if runs > 1:
+        advice += ", or ask for fewer runs"
+    limit = f"the budget of {max_cell_steps:.3g} cell-steps"
+    if allowed_s is not None:
+        limit += f" and {allowed_s:.0f} s of estimated time (POURHEAT_FORECAST_TIMEOUT_S)"
+    _refuse(
+        field,
+        f"the grid would have {cells} cells and about {steps} steps{runs_text} ({cost:.3g} "
+        f"cell-steps, about {seconds:.0f} s here), more than {limit}; {advice}",
+    )
 
 
 def validated_scenario(
@@ -146,9 +240,10 @@ def run_forecast(
     """
     scenario_in, scenario, origin = validated_scenario(payload, UncertainScenarioIn)
     band = scenario_in.uncertainty  # type: ignore[attr-defined]
-    check_budget(scenario, max_cell_steps)
+    check_budget(scenario, max_cell_steps, deadline=deadline)
     if band is not None:
-        check_budget(scenario, max_cell_steps, band.samples, "uncertainty.samples")
+        rounds = 1 + parallel_rounds(band.samples)  # the forecast, then the samples
+        check_budget(scenario, max_cell_steps, rounds, "uncertainty.samples", deadline)
     body = forecast_json(scenario_in, scenario, solve(scenario, deadline, progress), origin)
     if band is not None:
         spreads = Spreads(

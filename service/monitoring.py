@@ -1,6 +1,7 @@
 """Monitoring of stored pours: calibrate to the readings so far, re-forecast, summarise status."""
 
 from dataclasses import replace
+from datetime import UTC, datetime
 from functools import partial
 from typing import Any
 
@@ -12,6 +13,7 @@ from model.solver import forecast
 from service.convert import forecast_json
 from service.errors import InvalidScenarioError
 from service.forecasting import check_budget, solve, validated_scenario
+from service.store import hours_between
 
 EXTRA_HORIZON_H = 48.0
 """A re-forecast always looks at least this far past the latest reading [h]."""
@@ -26,6 +28,10 @@ and listed, but the calibration leaves them out (``calibration.readings_after_ho
 pour placed long ago cannot make a status request forecast years."""
 CURRENT_WINDOW_H = 2.0
 """Readings this close to the latest one count as "current" in the status [h]."""
+STALE_READINGS_H = 2.0
+"""The status flags the readings as stale when the newest concrete reading is older than this,
+or there is none this long after placement [h]: a data logger that stopped, or stopped
+reaching the service, is a site problem (common practice for hourly loggers, no source)."""
 
 
 def _arrays(readings: list[dict[str, Any]]) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
@@ -35,27 +41,37 @@ def _arrays(readings: list[dict[str, Any]]) -> tuple[np.ndarray, np.ndarray, np.
     return hours, sensors, temps
 
 
+def hours_since_placement(pour: dict[str, Any], now: datetime | None = None) -> float:
+    """Hours from the pour's placement to ``now`` (default: the current time) [h]."""
+    return hours_between(pour["placed_at"], now or datetime.now(UTC))
+
+
 def pour_forecast(
     pour: dict[str, Any],
     readings: list[dict[str, Any]],
     max_cell_steps: float,
     fit_placement: bool = False,
     deadline: float | None = None,
+    now: datetime | None = None,
 ) -> dict[str, Any]:
     """The forecast body of a stored pour, calibrated to its readings (planned if none);
-    ``deadline`` is a ``time.monotonic()`` wall-clock cap."""
+    ``deadline`` is a ``time.monotonic()`` wall-clock cap, ``now`` the current time (for
+    ``now_h``; default the clock)."""
     scenario_in, scenario, origin = validated_scenario(pour["scenario"])
     hours, sensors, temps = _arrays(readings)
-    now_h = float(hours.max()) if hours.size else 0.0
+    latest_h = float(hours.max()) if hours.size else None
     within = hours <= MAX_HORIZON_H
     after_horizon = int(np.count_nonzero(~within))
     hours, sensors, temps = hours[within], sensors[within], temps[within]
     horizon_h = min(
-        max(scenario.duration_h, float(np.ceil(now_h + EXTRA_HORIZON_H))), MAX_HORIZON_H
+        max(scenario.duration_h, float(np.ceil((latest_h or 0.0) + EXTRA_HORIZON_H))),
+        MAX_HORIZON_H,
     )
     if horizon_h > scenario.duration_h:
         scenario = replace(scenario, duration_h=horizon_h)
-    check_budget(scenario, max_cell_steps, CALIBRATION_RUNS[scenario.element.shape])
+    check_budget(
+        scenario, max_cell_steps, CALIBRATION_RUNS[scenario.element.shape], deadline=deadline
+    )
     concrete_readings = int(np.count_nonzero(sensors != AIR_SENSOR))
     calibration: dict[str, Any]
     if concrete_readings == 0:
@@ -84,7 +100,8 @@ def pour_forecast(
             "stored but not used: a forecast spans at most that"
         )
     body["calibration"] = calibration
-    body["now_h"] = round(now_h, 3)
+    body["now_h"] = round(hours_since_placement(pour, now), 3)
+    body["latest_reading_h"] = None if latest_h is None else round(latest_h, 3)
     body["differential_limit_exceeded_h"] = result.first_time_above_h(
         "differential_c", limits.max_differential_c
     )
@@ -132,36 +149,81 @@ def _earliest_removal(scenario: Any, limits: Any, deadline: float | None) -> flo
     return found.value
 
 
+def planned_removals(scenario: dict[str, Any]) -> list[dict[str, Any]]:
+    """Insulation and form removals the stored scenario plans: [{face, what, at_h}], by time."""
+    faces = scenario.get("faces") or {}
+    planned = [
+        {"face": face, "what": what, "at_h": given[f"{what}_removal_h"]}
+        for face, given in faces.items()
+        if isinstance(given, dict)
+        for what in ("insulation", "formwork")
+        if given.get(f"{what}_removal_h") is not None
+    ]
+    return sorted(planned, key=lambda r: r["at_h"])
+
+
+def _limits_over(
+    current: dict[str, float], limits: dict[str, Any]
+) -> tuple[float | None, float | None, list[str]]:
+    """Measured maximum and differential of the current readings, and the limits they exceed."""
+    measured_max = max(current.values()) if current else None
+    measured_diff = (max(current.values()) - min(current.values())) if len(current) > 1 else None
+    over = []
+    if measured_max is not None and measured_max > limits["max_temperature_c"]["limit_c"]:
+        over.append("max_temperature_c")
+    if measured_diff is not None and measured_diff > limits["max_differential_c"]["limit_c"]:
+        over.append("max_differential_c")
+    return measured_max, measured_diff, over
+
+
 def pour_status(
-    pour: dict[str, Any], readings: list[dict[str, Any]], body: dict[str, Any]
+    pour: dict[str, Any],
+    readings: list[dict[str, Any]],
+    body: dict[str, Any],
+    now: datetime | None = None,
 ) -> dict[str, Any]:
-    """Compact status for dashboards, from the readings and the calibrated forecast body."""
+    """Compact status for dashboards, from the readings and the calibrated forecast body.
+
+    Says separately what the current readings show (``limits_measured_exceeded``) and what the
+    forecast expects (``limits_forecast_exceeded``, and ``limits_forecast_unsettled`` for a
+    limit not settled within the forecast); ``limits_met`` is true only when neither applies.
+    ``now_h`` is the time since placement now; ``latest_reading_age_h`` how old the newest
+    concrete reading is, and ``readings_stale`` whether it is older than STALE_READINGS_H.
+    """
     summary = body["summary"]
     limits = summary["limits"]
     current = _current(readings)
-    measured_max = max(current.values()) if current else None
-    measured_diff = (max(current.values()) - min(current.values())) if len(current) > 1 else None
-    t_limit = limits["max_temperature_c"]["limit_c"]
-    d_limit = limits["max_differential_c"]["limit_c"]
-    measured_over = (measured_max is not None and measured_max > t_limit) or (
-        measured_diff is not None and measured_diff > d_limit
-    )
-    forecast_over = not (limits["max_temperature_c"]["met"] and limits["max_differential_c"]["met"])
+    measured_max, measured_diff, measured_over = _limits_over(current, limits)
+    forecast_over = [k for k, v in limits.items() if v.get("verdict") == "exceeded"]
+    unsettled = [k for k, v in limits.items() if v.get("verdict") == "unsettled"]
+    now_h = hours_since_placement(pour, now)
+    concrete = [r["hours"] for r in readings if r["sensor"] != AIR_SENSOR]
+    latest_h = max(concrete) if concrete else None
+    age_h = None if latest_h is None else max(now_h - latest_h, 0.0)
+    stale = (age_h if age_h is not None else now_h) > STALE_READINGS_H
     removal = body["earliest_insulation_removal_h"]
     return {
         "id": pour["id"],
         "name": pour["name"],
-        "now_h": body["now_h"],
+        "now_h": round(now_h, 2),
+        "latest_reading_h": None if latest_h is None else round(latest_h, 2),
+        "latest_reading_age_h": None if age_h is None else round(age_h, 2),
+        "readings_stale": bool(stale),
         "measured_max_c": None if measured_max is None else round(measured_max, 2),
         "measured_differential_c": None if measured_diff is None else round(measured_diff, 2),
         "forecast_peak_c": summary["peak_temperature_c"],
         "forecast_peak_time_h": summary["peak_time_h"],
         "forecast_max_differential_c": summary["max_differential_c"],
-        "limits_met": not (measured_over or forecast_over),
+        "limits_met": not (measured_over or forecast_over or unsettled),
         "limit_measured_exceeded": bool(measured_over),
         "limit_forecast_exceeded": bool(forecast_over),
+        "limits_measured_exceeded": measured_over,
+        "limits_forecast_exceeded": forecast_over,
+        "limits_forecast_unsettled": unsettled,
+        "planned_removals": planned_removals(pour["scenario"]),
+        "earliest_insulation_removal_h": removal,
         "hours_until_insulation_removal": (
-            None if removal is None else round(max(removal - body["now_h"], 0.0), 1)
+            None if removal is None else round(max(removal - now_h, 0.0), 1)
         ),
         "calibration": body["calibration"].get("status"),
         "suspect_sensors": body["calibration"].get("suspect_sensors", []),
@@ -184,14 +246,56 @@ def _current(readings: list[dict[str, Any]]) -> dict[str, float]:
     return {s: t for s, (_, t) in current.items()}
 
 
+LIMIT_WORDS = {"max_temperature_c": "max temperature", "max_differential_c": "differential"}
+
+
+def _value(value: float | None, unit: str = " C") -> str:
+    return "no reading" if value is None else f"{value:g}{unit}"
+
+
 def status_line(status: dict[str, Any]) -> str:
-    """One line for cron mail and logs."""
-    verdict = "LIMIT EXCEEDED" if not status["limits_met"] else "within limits"
-    removal = status["hours_until_insulation_removal"]
+    """One line for cron mail and logs: measured and forecast verdicts apart, planned and
+    earliest insulation removal, how old the newest reading is. Never prints ``None``."""
+    words = LIMIT_WORDS
+    measured_over = status.get("limits_measured_exceeded", [])
+    forecast_over = status.get("limits_forecast_exceeded", [])
+    unsettled = status.get("limits_forecast_unsettled", [])
+    measured = (
+        f"MEASURED LIMIT EXCEEDED ({', '.join(words.get(k, k) for k in measured_over)})"
+        if measured_over
+        else "measured within limits"
+    )
+    if forecast_over:
+        forecast = f"FORECAST TO EXCEED ({', '.join(words.get(k, k) for k in forecast_over)})"
+    elif unsettled:
+        forecast = (
+            f"forecast NOT SETTLED ({', '.join(words.get(k, k) for k in unsettled)}: "
+            "extend duration_h)"
+        )
+    else:
+        forecast = "forecast within limits"
+    planned = status.get("planned_removals") or []
+    removal = (
+        "planned removals: "
+        + ", ".join(f"{r['face']} {r['what']} at {r['at_h']:g} h" for r in planned)
+        if planned
+        else "no removal planned"
+    )
+    earliest = status.get("earliest_insulation_removal_h")
+    if earliest is not None:
+        removal += f"; insulation may come off from {earliest:g} h"
+    if status.get("latest_reading_age_h") is None:
+        readings = "no readings yet"
+    else:
+        readings = f"newest reading {status['latest_reading_age_h']:g} h old"
+    if status.get("readings_stale"):
+        readings = f"READINGS STALE ({readings}: check the logger)"
+    peak_time = status["forecast_peak_time_h"]
     return (
         f"{status['name']} at {status['now_h']:.1f} h: measured max "
-        f"{status['measured_max_c']} C, differential {status['measured_differential_c']} C; "
-        f"forecast peak {status['forecast_peak_c']} C at {status['forecast_peak_time_h']} h, "
-        f"max differential {status['forecast_max_differential_c']} C; {verdict}; insulation "
-        f"removal {'not planned' if removal is None else f'in {removal} h'}"
+        f"{_value(status['measured_max_c'])}, differential "
+        f"{_value(status['measured_differential_c'])}; forecast peak "
+        f"{_value(status['forecast_peak_c'])} at {peak_time:g} h, max differential "
+        f"{_value(status['forecast_max_differential_c'])}; {measured}; {forecast}; {removal}; "
+        f"{readings}"
     )

@@ -21,12 +21,17 @@ from service import rounding
 from service.convert import CAUTIONS
 from service.csvout import SafeCsvWriter
 from service.errors import InvalidScenarioError, validation_errors
-from service.forecasting import check_budget, run_forecast, validated_scenario
+from service.forecasting import (
+    check_budget,
+    parallel_rounds,
+    run_forecast,
+    validated_scenario,
+)
 from service.parallel import Progress, run_many, tick
 from service.schemas import BatchIn, ComparisonIn, PlanIn
 
 PLAN_EVALUATIONS = 14
-"""Forecasts a single control search may take, for the compute budget."""
+"""Forecasts a single control search may take one after the other, for the compute budget."""
 MIN_CHILLED_WATER_C = 1.0
 """Coldest practical chilled batch water [C] (common practice, no source)."""
 
@@ -68,6 +73,7 @@ def _solve_one(
         "summary": _summary_json(result.summary),
         "forecasts_run": result.forecasts_run,
         "note": result.note,
+        "unsettled": result.unsettled,
     }
 
 
@@ -114,7 +120,8 @@ def run_plan(
             [{**e, "field": f"scenario.{e['field']}"} for e in error.errors]
         ) from error
     controls = list(dict.fromkeys(plan.solve_for))
-    check_budget(scenario, max_cell_steps, PLAN_EVALUATIONS * len(controls), "solve_for")
+    rounds = PLAN_EVALUATIONS * parallel_rounds(len(controls))
+    check_budget(scenario, max_cell_steps, rounds, "solve_for", deadline)
     chosen = plan.limits or plan.scenario.limits
     limits = Limits(chosen.max_temperature_c, chosen.max_differential_c)
     results = run_many(
@@ -154,7 +161,11 @@ def _forecast_row(
     _, body = run_forecast(payload, max_cell_steps, deadline)
     summary = dict(body["summary"])
     limits = summary.pop("limits")
-    return {**summary, **{f"{k}_met": v["met"] for k, v in limits.items()}}
+    return {
+        **summary,
+        **{f"{k}_met": v["met"] for k, v in limits.items()},
+        **{f"{k}_verdict": v["verdict"] for k, v in limits.items()},
+    }
 
 
 COMPARISON_COLUMNS = (
@@ -167,6 +178,8 @@ COMPARISON_COLUMNS = (
     "min_surface_temperature_c",
     "max_temperature_c_met",
     "max_differential_c_met",
+    "max_temperature_c_verdict",
+    "max_differential_c_verdict",
 )
 
 
@@ -186,7 +199,9 @@ def run_comparison(
         prefix = "base" if name == "base" else f"variants.{name}"
         try:
             _, scenario, _ = validated_scenario(scenario_payload)
-            check_budget(scenario, max_cell_steps, len(scenarios))
+            check_budget(
+                scenario, max_cell_steps, parallel_rounds(len(scenarios)), deadline=deadline
+            )
         except ValidationError as error:
             errors += [{**e, "field": f"{prefix}.{e['field']}"} for e in validation_errors(error)]
         except InvalidScenarioError as error:

@@ -4,7 +4,7 @@ The service builds its bodies in :mod:`service.convert`; these models describe t
 field, with units. SI names are shown; with ``units=us`` the suffixes change (see the README).
 """
 
-from typing import Any
+from typing import Any, Literal
 
 from pydantic import BaseModel, ConfigDict
 
@@ -21,9 +21,22 @@ class LimitStatusOut(Out):
     """A limit checked against every solver step."""
 
     limit_c: float = F("The limit checked [C]", 70.0)
-    met: bool = F("Whether the forecast stays within the limit", True)
+    met: bool | None = F(
+        "true: met; false: exceeded; null: not settled within the forecast (verdict "
+        "unsettled), never true then, so treat it as not met",
+        True,
+    )
+    verdict: Literal["met", "exceeded", "unsettled"] = F(
+        "met; exceeded; unsettled: not above the limit within the forecast, but its maximum is "
+        "within the last 24 h and still rising at the end, or (differential) insulation or "
+        "forms come off within the last 48 h: extend duration_h",
+        "met",
+    )
     margin_c: float = F("Limit minus the worst forecast value; negative when exceeded [C]", 3.2)
     first_exceeded_h: float | None = F("First time the limit is exceeded, or null [h]", None)
+    unsettled_reason: str | None = F(
+        "Why the verdict is unsettled (present only then)", None, default=None
+    )
 
 
 class LimitsOut(Out):
@@ -117,10 +130,10 @@ class SummaryOut(Out):
     max_spread_time_h: float = F("When the largest spread occurs [h]", 98.0)
     min_surface_temperature_c: float = F("Lowest near-surface temperature [C]", 18.5)
     final_core_equivalent_age_h: float = F(
-        "Equivalent age at 21.1 C at the hottest point [h]", 420.0
+        "Equivalent age at 21.1 C of the most mature point of the concrete, at the end [h]", 420.0
     )
     final_surface_equivalent_age_h: float = F(
-        "Equivalent age at 21.1 C at the coolest near-surface point [h]", 250.0
+        "Equivalent age at 21.1 C of the least mature near-surface point, at the end [h]", 250.0
     )
     limits: LimitsOut = F("Each limit: met or not, margin, first time exceeded")
     uncertainty: UncertaintyOut | None = F("P10/P50/P90 band, when asked for", default=None)
@@ -141,13 +154,17 @@ class SeriesOut(Out):
     spread_c: list[float] = F("core_c minus coolest_c [C]", [0.0, 0.2, 0.4])
     air_c: list[float] = F("Air temperature [C]", [20.0, 20.0, 20.0])
     core_equivalent_age_h: list[float] = F(
-        "Equivalent age at the hottest point [h]", [0.0, 1.0, 2.0]
+        "Equivalent age at 21.1 C of the most mature point of the concrete (greatest over its "
+        "points; never decreases) [h]",
+        [0.0, 1.0, 2.0],
     )
     surface_equivalent_age_h: list[float] = F(
-        "Equivalent age at the near-surface point [h]", [0.0, 1.0, 2.0]
+        "Equivalent age at 21.1 C of the least mature point of the near-surface layer of every "
+        "exposed face (least over fixed points; never decreases) [h]",
+        [0.0, 1.0, 2.0],
     )
     core_degree_of_hydration: list[float] = F(
-        "Degree of hydration at the hottest point [-]", [0.0, 0.0, 0.002]
+        "Degree of hydration of the most mature point of the concrete [-]", [0.0, 0.0, 0.002]
     )
     core_nurse_saul_ch: list[float] = F(
         "Nurse-Saul factor at the hottest point [C h]", [0.0, 20.0, 40.2]
@@ -160,6 +177,14 @@ class SeriesOut(Out):
     )
     sensors: dict[str, list[float]] = F(
         "Temperature at each requested sensor [C]", {"S1": [20.0, 20.1, 20.3]}
+    )
+    faces_equivalent_age_h: dict[str, list[float]] = F(
+        "Equivalent age at 21.1 C of each exposed face: the least over the points of its "
+        "near-surface layer (never decreases) [h]",
+        {"top": [0.0, 1.0, 2.0]},
+    )
+    sensors_equivalent_age_h: dict[str, list[float]] = F(
+        "Equivalent age at 21.1 C at each requested sensor [h]", {"S1": [0.0, 1.0, 2.0]}
     )
     core_strength_mpa: list[float] | None = F(
         "In-place strength at the hottest point [MPa]", [0.0, 0.0, 0.1], default=None
@@ -246,7 +271,10 @@ class ProblemOut(Out):
     title: str = F("Short summary", "Invalid scenario")
     status: int = F("HTTP status", 422)
     detail: str = F("Explanation", "1 field(s) are invalid: see errors")
-    errors: list[FieldErrorOut] | None = F("Each invalid field", default=None)
+    errors: list[FieldErrorOut] | None = F(
+        "Each invalid field (the first 100; errors_count says how many in all)", default=None
+    )
+    errors_count: int | None = F("How many errors there were in all", 1, default=None)
 
 
 class PlanSummaryOut(Out):
@@ -259,7 +287,9 @@ class PlanSummaryOut(Out):
     max_spread_c: float = F("Maximum hottest-minus-coolest [C]", 11.3)
     max_spread_time_h: float = F("When [h]", 190.5)
     min_surface_temperature_c: float = F("Lowest near-surface temperature [C]", 17.2)
-    final_core_equivalent_age_h: float = F("Equivalent age at the hottest point [h]", 2284.0)
+    final_core_equivalent_age_h: float = F(
+        "Equivalent age of the most mature point, at the end [h]", 2284.0
+    )
     final_surface_equivalent_age_h: float = F("Equivalent age near the surface [h]", 1550.0)
 
 
@@ -281,6 +311,12 @@ class ControlOut(Out):
     summary: PlanSummaryOut | None = F("Forecast summary at the value", default=None)
     forecasts_run: int | None = F("Whole forecasts the search took", 7, default=None)
     note: str = F("Plain-language explanation", "most permissive value that meets the limits")
+    unsettled: str | None = F(
+        "Why a limit is not settled within the forecast at the value shown (it then counts as "
+        "not met: extend duration_h), or null",
+        None,
+        default=None,
+    )
 
 
 class PrecoolingOut(Out):
@@ -319,8 +355,14 @@ class ComparisonRowOut(Out):
     variant: str = F("Variant name (base first)", "base")
     peak_temperature_c: float = F("Peak temperature [C]", 72.8)
     max_differential_c: float = F("Maximum differential [C]", 11.2)
-    max_temperature_c_met: bool = F("Peak limit met", False)
-    max_differential_c_met: bool = F("Differential limit met", True)
+    max_temperature_c_met: bool | None = F(
+        "Peak limit met (null: not settled within the forecast, not met)", False
+    )
+    max_differential_c_met: bool | None = F(
+        "Differential limit met (null: not settled within the forecast, not met)", True
+    )
+    max_temperature_c_verdict: str = F("Peak limit: met, exceeded or unsettled", "exceeded")
+    max_differential_c_verdict: str = F("Differential limit: met, exceeded or unsettled", "met")
 
 
 class ComparisonOut(Out):
@@ -370,7 +412,10 @@ class ReadingsReportOut(Out):
 
     accepted: int = F("New readings stored", 140)
     duplicates: int = F("Readings already stored (same sensor and time), not changed", 4)
-    rejected: list[RejectedRowOut] = F("Rows not stored, each with its reason")
+    rejected: list[RejectedRowOut] = F(
+        "Rows not stored, each with its reason (the first 100; rejected_count says how many)"
+    )
+    rejected_count: int = F("How many rows were rejected in all", 0)
 
 
 class ReadingOut(Out):
@@ -418,7 +463,10 @@ class PourForecastOut(ForecastOut):
         "[C], forecasts run",
         {"status": "calibrated to the readings so far", "rms_c": 0.18, "suspect_sensors": []},
     )
-    now_h: float = F("Hours since placement of the latest reading [h]", 48.0)
+    now_h: float = F("Hours since placement, now (at the request) [h]", 50.5)
+    latest_reading_h: float | None = F(
+        "Hours since placement of the latest reading, or null when there is none [h]", 48.0
+    )
     differential_limit_exceeded_h: float | None = F(
         "When the differential limit is forecast to be exceeded, or null [h]", None
     )
@@ -429,22 +477,58 @@ class PourForecastOut(ForecastOut):
     )
 
 
+class PlannedRemovalOut(Out):
+    """A removal of insulation or forms that the scenario plans."""
+
+    face: str = F("Face", "top")
+    what: Literal["insulation", "formwork"] = F("What comes off", "insulation")
+    at_h: float = F("Hour after placement [h]", 168.0)
+
+
 class PourStatusOut(Out):
     """Compact status of a pour for dashboards."""
 
     id: str = F("Pour id", "3f9c2a7d81b4")
     name: str = F("Name", "Mat A, north half")
-    now_h: float = F("Hours since placement of the latest reading [h]", 48.0)
+    now_h: float = F("Hours since placement, now (at the request) [h]", 50.5)
+    latest_reading_h: float | None = F(
+        "Hours since placement of the newest concrete reading, or null [h]", 48.0
+    )
+    latest_reading_age_h: float | None = F(
+        "How old the newest concrete reading is, or null when there is none [h]", 2.5
+    )
+    readings_stale: bool = F(
+        "The newest concrete reading is older than 2 h (or there is none 2 h after "
+        "placement): check the data logger",
+        True,
+    )
     measured_max_c: float | None = F("Hottest current reading [C]", 61.2)
     measured_differential_c: float | None = F("Hottest minus coolest current reading [C]", 14.1)
     forecast_peak_c: float = F("Forecast peak [C]", 66.0)
     forecast_peak_time_h: float = F("When [h]", 70.0)
     forecast_max_differential_c: float = F("Forecast maximum differential [C]", 18.2)
-    limits_met: bool = F("No limit measured or forecast to be exceeded", True)
-    limit_measured_exceeded: bool = F("A limit is exceeded by the readings", False)
+    limits_met: bool = F(
+        "No limit measured or forecast to be exceeded, and none unsettled in the forecast", True
+    )
+    limit_measured_exceeded: bool = F("A limit is exceeded by the current readings", False)
     limit_forecast_exceeded: bool = F("A limit is forecast to be exceeded", False)
+    limits_measured_exceeded: list[str] = F(
+        "The limits the current readings exceed", ["max_differential_c"]
+    )
+    limits_forecast_exceeded: list[str] = F("The limits forecast to be exceeded", [])
+    limits_forecast_unsettled: list[str] = F(
+        "The limits not settled within the forecast (counted as not met)", []
+    )
+    planned_removals: list[PlannedRemovalOut] = F(
+        "Insulation and form removals the pour's scenario plans, by time"
+    )
+    earliest_insulation_removal_h: float | None = F(
+        "Earliest hour the top insulation may come off without exceeding a limit later (from "
+        "the forecast), or null [h]",
+        150.0,
+    )
     hours_until_insulation_removal: float | None = F(
-        "Hours until the insulation may come off", 140.0
+        "Hours from now until earliest_insulation_removal_h, or null", 99.5
     )
     calibration: str | None = F("Calibration status", "calibrated to the readings so far")
     suspect_sensors: list[SuspectSensorOut] = F(

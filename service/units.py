@@ -162,7 +162,12 @@ DIFFERENCE_TOKENS = ("rms", "rmse", "error", "range")
 word is a temperature difference too: fit errors, such as a calibration's RMS error in C, and
 ranges such as the spreadsheet query's daily ``air_range_c``."""
 
-NAME_KEYED = {"sensors": "_c", "faces_c": "_c"}
+NAME_KEYED = {
+    "sensors": "_c",
+    "faces_c": "_c",
+    "faces_equivalent_age_h": "_h",
+    "sensors_equivalent_age_h": "_h",
+}
 """Dicts keyed by names (sensor ids, face names), with the SI suffix of their values. Their
 keys are kept; the dict's own key is renamed by the usual rule (``faces_c`` -> ``faces_f``)."""
 

@@ -70,7 +70,12 @@ def test_reforecast_moves_to_the_truth(client):
     posted = client.post(f"/v1/pours/{pour}/readings", data=csv_text, content_type="text/csv")
     assert posted.get_json()["accepted"] == 144
     again = client.post(f"/v1/pours/{pour}/readings", data=csv_text, content_type="text/csv")
-    assert again.get_json() == {"accepted": 0, "duplicates": 144, "rejected": []}
+    assert again.get_json() == {
+        "accepted": 0,
+        "duplicates": 144,
+        "rejected": [],
+        "rejected_count": 0,
+    }
     body = client.get(f"/v1/pours/{pour}/forecast").get_json()
     calibration = body["calibration"]
     assert calibration["readings_used"] == 144
@@ -79,7 +84,7 @@ def test_reforecast_moves_to_the_truth(client):
     peak_truth = truth["peak_temperature_c"]
     assert body["summary"]["peak_temperature_c"] == pytest.approx(peak_truth, abs=1.0)
     assert abs(planned["summary"]["peak_temperature_c"] - peak_truth) > 3.0
-    assert body["now_h"] == pytest.approx(48.0)
+    assert body["latest_reading_h"] == pytest.approx(48.0)
     for key in ("summary", "series", "cautions"):
         assert key in body
 
@@ -89,7 +94,7 @@ def test_status_and_chart(client):
     csv_text, _ = _truth_csv(client, hours=24)
     client.post(f"/v1/pours/{pour}/readings", data=csv_text, content_type="text/csv")
     status = client.get(f"/v1/pours/{pour}/status").get_json()
-    assert status["now_h"] == pytest.approx(24.0)
+    assert status["latest_reading_h"] == pytest.approx(24.0)
     assert status["measured_max_c"] > status["measured_differential_c"] > 0
     assert status["limit_forecast_exceeded"] is True  # the true pour runs past 70 C
     assert status["limits_met"] is False
@@ -191,7 +196,7 @@ def test_show_pour_carries_the_latest_status(client):
     client.post(f"/v1/pours/{pour}/readings", data=csv_text, content_type="text/csv")
     status = client.get(f"/v1/pours/{pour}/status").get_json()
     shown = client.get(f"/v1/pours/{pour}").get_json()["latest_status"]
-    assert shown["now_h"] == status["now_h"] == pytest.approx(12.0)
+    assert shown["latest_reading_h"] == status["latest_reading_h"] == pytest.approx(12.0)
     assert shown["computed_at"].endswith("Z")
 
 

@@ -136,7 +136,12 @@ def test_json_readings_stored_and_returned_in_order(client, pour_id):
     readings = [_reading(60, "S2", 30.0), _reading(60, "S1", 31.5), _reading(0, "air", 18.0)]
     response = client.post(f"/v1/pours/{pour_id}/readings", json={"readings": readings})
     assert response.status_code == 200
-    assert response.get_json() == {"accepted": 3, "duplicates": 0, "rejected": []}
+    assert response.get_json() == {
+        "accepted": 3,
+        "duplicates": 0,
+        "rejected": [],
+        "rejected_count": 0,
+    }
 
     got = client.get(f"/v1/pours/{pour_id}/readings").get_json()["readings"]
     assert [(r["sensor"], r["temperature_c"], r["hours"]) for r in got] == [
@@ -155,7 +160,7 @@ def test_repost_is_idempotent_whatever_the_offset(client, pour_id):
     url = f"/v1/pours/{pour_id}/readings"
     assert client.post(url, json={"readings": readings}).get_json()["accepted"] == 10
     again = client.post(url, json={"readings": readings}).get_json()
-    assert again == {"accepted": 0, "duplicates": 10, "rejected": []}
+    assert again == {"accepted": 0, "duplicates": 10, "rejected": [], "rejected_count": 0}
     # the same instant written in another offset is the same reading
     shifted = (PLACED_AT + timedelta(minutes=10)).astimezone(timezone(timedelta(hours=-5)))
     other = {"time": shifted.isoformat(), "sensor": "S1", "temperature_c": 99.0}

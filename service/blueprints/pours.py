@@ -28,7 +28,7 @@ from werkzeug.exceptions import BadRequest, UnsupportedMediaType
 
 from service import store, units
 from service.csvout import FORMULA_TRIGGERS, SafeCsvWriter
-from service.errors import InvalidScenarioError, problem, validation_errors
+from service.errors import InvalidScenarioError, capped, echo, problem, validation_errors
 from service.forecasting import check_budget, validated_scenario
 from service.negotiation import choose_format, requested_units
 from service.schemas import CONTROL_CHARACTERS
@@ -66,13 +66,13 @@ def _aware_time(value: Any) -> tuple[datetime | None, str]:
     try:
         moment = datetime.fromisoformat(value.strip())
     except ValueError:
-        return None, f"{value!r} is not an ISO 8601 time"
+        return None, f"{echo(value)} is not an ISO 8601 time"
     if moment.tzinfo is None or moment.utcoffset() is None:
-        return None, f"{value!r} has no UTC offset: add Z or +hh:mm"
+        return None, f"{echo(value)} has no UTC offset: add Z or +hh:mm"
     try:
         return moment.astimezone(UTC), ""
     except OverflowError:
-        return None, f"{value!r} is out of range"
+        return None, f"{echo(value)} is out of range"
 
 
 class PourNotFoundError(Exception):
@@ -314,7 +314,7 @@ def _temperature(value: Any, from_csv: bool) -> tuple[float | None, str]:
         try:
             value = float(value)
         except ValueError:
-            return None, f"{value!r} is not a number"
+            return None, f"{echo(value)} is not a number"
     if isinstance(value, bool) or not isinstance(value, int | float):
         return None, "expected a number"
     value = float(value)
@@ -353,9 +353,7 @@ def _check_row(
         if from_csv and isinstance(sensor, str) and sensor not in sensors:
             sensor = _unescaped(sensor)
         if not isinstance(sensor, str) or sensor not in sensors:
-            problems.append(
-                ("sensor", f"{sensor!r} is not one of the pour's sensors {sorted(sensors)}")
-            )
+            problems.append(("sensor", f"{echo(sensor)} is not one of the pour's sensors"))
     if "temperature_c" in row:
         temp, why = _temperature(row["temperature_c"], from_csv)
         if temp is None:
@@ -363,6 +361,13 @@ def _check_row(
     if problems or time is None or temp is None:
         return None, problems
     return (time, sensor, temp), []
+
+
+def _sensor_list(sensors: set[str], most: int = 20) -> str:
+    """The sensor ids, sorted, cut to ``most`` with a count of the rest."""
+    names = sorted(sensors)
+    more = f" and {len(names) - most} more (GET the pour for all)" if len(names) > most else ""
+    return ", ".join(names[:most]) + more
 
 
 @bp.post("/v1/pours/<pour_id>/readings")
@@ -400,11 +405,14 @@ def add_readings(pour_id: str) -> Response:
             {"field": f"readings.{r['row']}.{r['field']}", "message": r["message"]}
             for r in rejected
         ]
-        return problem(
-            422, "Invalid readings", f"all {len(rows)} reading(s) were rejected: see errors", errors
-        )
+        unknown = sum(1 for r in rejected if r["field"] == "sensor")
+        detail = f"all {len(rows)} reading(s) were rejected: see errors"
+        if unknown:
+            detail += f"; the pour's sensors are {_sensor_list(sensors)}"
+        return problem(422, "Invalid readings", detail, errors)
     accepted, duplicates = store.add_readings(store.get_db(), pour_id, good, pour["placed_at"])
-    return jsonify(accepted=accepted, duplicates=duplicates, rejected=rejected)
+    listed, count = capped(rejected)
+    return jsonify(accepted=accepted, duplicates=duplicates, rejected=listed, rejected_count=count)
 
 
 def _window_bound(name: str) -> datetime | None:
