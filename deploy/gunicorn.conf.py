@@ -14,7 +14,17 @@ errorlog = "-"
 # worker, so a client trickling its request holds no worker; it has POURHEAT_CLIENT_TIMEOUT_S
 # to send the request line and headers, and as long again for the body (408 past it), and an
 # idle kept-alive connection is closed after as long (service/serving.py).
-worker_class = "service.serving.BoundedGeventWorker"
+#
+# With a Dask cluster (POURHEAT_DASK_SCHEDULER) the workers are plain sync workers instead: the
+# Dask client's own threads and event loop do not run under gevent's monkey-patching (measured:
+# every many-forecast request timed out). That deployment runs behind a load balancer
+# (deploy/compose.yaml: nginx, which buffers each request whole before passing it on), and the
+# balancer is what keeps slow clients away from the workers there.
+worker_class = (
+    "sync"
+    if os.environ.get("POURHEAT_DASK_SCHEDULER", "").strip()
+    else "service.serving.BoundedGeventWorker"
+)
 _client_timeout = os.environ.get("POURHEAT_CLIENT_TIMEOUT_S", "30")
 if not _client_timeout.isdigit() or not 1 <= int(_client_timeout) <= 600:
     raise ValueError(
