@@ -13,6 +13,7 @@ from model.solver import forecast
 from service.convert import forecast_json
 from service.errors import InvalidScenarioError
 from service.forecasting import check_budget, solve, validated_scenario
+from service.parallel import run_many
 from service.store import hours_between
 
 EXTRA_HORIZON_H = 48.0
@@ -81,7 +82,15 @@ def pour_forecast(
         }
     else:
         try:
-            fit = calibrate(scenario, hours, sensors, temps, fit_placement, deadline)
+            fit = calibrate(
+                scenario,
+                hours,
+                sensors,
+                temps,
+                fit_placement,
+                deadline,
+                partial(run_many, deadline=deadline),
+            )
         except ValueError as error:
             raise InvalidScenarioError([{"field": "readings", "message": str(error)}]) from error
         scenario = fit.scenario

@@ -20,6 +20,7 @@ estimate of the forecasts to run (``ticks_expected``), raised if it was low.
 
 import multiprocessing
 import os
+import sys
 import threading
 import time
 from collections.abc import Callable, Sequence
@@ -109,12 +110,29 @@ def run_many(
     workers = min(len(items), os.cpu_count() or 1)
     if address is not None:
         results = _run_on_dask(address, function, items, deadline, counter)
-    elif workers <= 1:
+    elif workers <= 1 or _on_a_cluster_worker():
         results = _run_here(function, items, deadline, counter)
     else:
         results = _run_in_processes(function, items, deadline, counter, workers)
     counter.finish()
     return results
+
+
+def _on_a_cluster_worker() -> bool:
+    """Whether this process is a Dask worker (or any daemon process): work nested in a task runs
+    here, one item after another: the worker is one core of the cluster, and a daemon process
+    may not start processes of its own."""
+    if multiprocessing.current_process().daemon:
+        return True
+    if "distributed" not in sys.modules:
+        return False
+    from distributed import get_worker
+
+    try:
+        get_worker()
+    except ValueError:
+        return False
+    return True
 
 
 class _Counter:

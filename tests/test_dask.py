@@ -215,3 +215,31 @@ def test_gunicorn_with_a_cluster_answers_comparisons(cluster, tmp_path, monkeypa
         server.send_signal(signal.SIGINT)
         server.wait(timeout=30)
         log.close()
+
+
+def test_section_calibration_on_the_cluster_equals_one_after_another(cluster, monkeypatch):
+    """The Jacobian forecasts of a section's calibration sent to the cluster: same fit, to the
+    last digit, as running them in turn here (the wall of tests/test_calibration.py)."""
+    from functools import partial
+
+    import numpy as np
+
+    from model.calibration import calibrate, with_parameters
+    from model.scenario import Element, Sensor
+    from model.solver import forecast
+    from tests.test_calibration import SIDE_TRUTH, _formed_element, _site_readings
+
+    plan = _formed_element(
+        Element("section", 2.5, width_m=1.2),
+        (Sensor("C", 1.25), Sensor("T", 0.05), Sensor("S", 1.25, 0.55)),
+        ("left", "right"),
+    )
+    truth = forecast(with_parameters(plan, SIDE_TRUTH))
+    readings = _site_readings(truth, ("C", "T", "S"), np.arange(1.0, 25.0), seed=3)
+    here = calibrate(plan, *readings)
+    before = _tasks_seen(cluster.address)
+    _on(cluster.address, monkeypatch)
+    there = calibrate(plan, *readings, mapper=partial(parallel.run_many, deadline=None))
+    assert _tasks_seen(cluster.address) - before >= 4  # one task per fitted parameter, per step
+    assert there.values == here.values
+    assert there.forecasts == here.forecasts
