@@ -6,7 +6,10 @@ a site logger's local clock is ambiguous) and always answered in UTC with ``Z``,
 ``2025-06-01T06:00:00Z``, with fractional seconds only when the time has them. Uploads are
 checked row by row: good rows are stored in one transaction before the answer, rejected rows
 are reported with their 0-based index in the upload and never stored. Re-posting a reading
-already stored (same sensor, same instant) is counted as a duplicate and changes nothing.
+already stored (same sensor, same instant) with the same value is counted as a duplicate and
+changes nothing; with a different value it is a conflict, reported with the stored value and
+left as stored, unless the upload says ``?replace=true``, which overwrites it (the way to
+correct a wrong reading).
 """
 
 import csv
@@ -38,6 +41,8 @@ EARLIEST_BEFORE_PLACEMENT = timedelta(hours=1)
 LATEST_AFTER_NOW = timedelta(hours=24)
 """Readings may be this far ahead of the server's clock (loggers with a wrong clock or zone)."""
 MEDIA_TYPES = {"json": "application/json", "csv": "text/csv"}
+MAX_CONFLICT_ROWS = 100
+"""Conflicting rows listed in an upload's answer (all are counted)."""
 
 
 def _invalid(title: str, errors: list[dict[str, str]]) -> Response:
@@ -309,7 +314,8 @@ def _check_row(
 @bp.post("/v1/pours/<pour_id>/readings")
 def add_readings(pour_id: str) -> Response:
     """Add readings: JSON {"readings": [{time, sensor, temperature_c}, ...]} or text/csv with
-    the header ``time,sensor,temperature_c``. Answers {accepted, duplicates, rejected}."""
+    the header ``time,sensor,temperature_c``; ``?replace=true`` overwrites conflicting stored
+    values. Answers {accepted, duplicates, conflicts, conflict_rows, replaced, rejected}."""
     pour = _pour_or_404(pour_id)
     if pour["archived"]:
         return problem(409, "Conflict", f"pour {pour_id!r} is archived: it takes no new readings")
@@ -325,12 +331,15 @@ def add_readings(pour_id: str) -> Response:
     sensors = {*_sensor_ids(pour["scenario"]), AIR_SENSOR}
     earliest = pour["placed_at"] - EARLIEST_BEFORE_PLACEMENT
     latest = datetime.now(UTC) + LATEST_AFTER_NOW
+    replace = _replace_flag()
     good: list[tuple[datetime, str, float]] = []
+    good_rows: list[int] = []
     rejected: list[dict[str, Any]] = []
     for i, row in enumerate(rows):
         reading, problems = _check_row(row, sensors, earliest, latest, from_csv)
         if reading is not None:
             good.append(reading)
+            good_rows.append(i)
         rejected += [{"row": i, "field": f, "message": m} for f, m in problems]
     if not good:
         errors = [
@@ -340,8 +349,33 @@ def add_readings(pour_id: str) -> Response:
         return problem(
             422, "Invalid readings", f"all {len(rows)} reading(s) were rejected: see errors", errors
         )
-    accepted, duplicates = store.add_readings(store.get_db(), pour_id, good, pour["placed_at"])
-    return jsonify(accepted=accepted, duplicates=duplicates, rejected=rejected)
+    done = store.add_readings(store.get_db(), pour_id, good, pour["placed_at"], replace)
+    conflicts = [
+        {
+            "row": good_rows[index],
+            "time": store.iso_utc(good[index][0]),
+            "sensor": good[index][1],
+            "temperature_c": good[index][2],
+            "stored_temperature_c": stored,
+        }
+        for index, stored in done.conflicts[:MAX_CONFLICT_ROWS]
+    ]
+    return jsonify(
+        accepted=done.accepted,
+        duplicates=done.duplicates,
+        conflicts=len(done.conflicts),
+        conflict_rows=conflicts,
+        replaced=done.replaced,
+        rejected=rejected,
+    )
+
+
+def _replace_flag() -> bool:
+    """``?replace=true``: overwrite stored readings that the upload contradicts."""
+    value = request.args.get("replace", "false").lower()
+    if value not in ("true", "false"):
+        raise RefusedError(_invalid("Invalid query", [{"field": "replace", "message": "true or false"}]))
+    return value == "true"
 
 
 def _window_bound(name: str) -> datetime | None:
