@@ -15,6 +15,7 @@ from model.results import Summary
 from model.scenario import Scenario
 from model.solver import ConvergenceError, ThermalSolver, forecast, forecast_batch
 from model.uncertainty import Spreads, percentiles, sample_scenarios, sample_variations
+from service import progress
 from service.checks import cross_field_errors
 from service.convert import forecast_json, scenario_from
 from service.errors import InvalidScenarioError
@@ -81,7 +82,7 @@ def solve(scenario: Scenario, deadline: float | None = None):
     """Run one forecast; a solver failure becomes a 422 naming the scenario. Past ``deadline``
     (a ``time.monotonic()`` value) the solver raises DeadlineExceededError (a 503)."""
     try:
-        return ThermalSolver(scenario).run(deadline)
+        return ThermalSolver(scenario).run(deadline, progress.on_step)
     except ConvergenceError as error:
         raise InvalidScenarioError(
             [{"field": "(scenario)", "message": f"{error}; try a smaller resolution.max_step_h"}]
@@ -89,7 +90,7 @@ def solve(scenario: Scenario, deadline: float | None = None):
 
 
 def _summary_of(scenario: Scenario, deadline: float | None) -> Summary:
-    return forecast(scenario, deadline).summary
+    return forecast(scenario, deadline, progress.on_step).summary
 
 
 def uncertainty_band(
@@ -101,7 +102,8 @@ def uncertainty_band(
     sample in parallel processes.
     """
     if scenario.element.shape == "slab":
-        batch = forecast_batch(scenario, sample_variations(spreads, samples, seed), deadline)
+        variations = sample_variations(spreads, samples, seed)
+        batch = forecast_batch(scenario, variations, deadline, progress.on_step)
         peaks, diffs = batch.peak_temperature_c, batch.max_differential_c
     else:
         summaries = map_in_processes(

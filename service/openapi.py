@@ -165,9 +165,23 @@ def _pour_paths() -> dict[str, Any]:
         "/v1/pours/{pour_id}/readings": {
             "parameters": [POUR_ID],
             "post": {
-                "summary": "Store readings (JSON or CSV); duplicates are ignored, bad rows "
-                "reported one by one",
+                "summary": "Store readings (JSON or CSV); duplicates are ignored, conflicts "
+                "and bad rows reported one by one",
+                "description": "A reading already stored (same sensor and instant) with the same "
+                "value is a duplicate; with another value a conflict, left as stored and listed "
+                "with the stored value. To correct a wrong reading post the right value with "
+                "`replace=true`.",
                 "operationId": "addReadings",
+                "parameters": [
+                    {
+                        "name": "replace",
+                        "in": "query",
+                        "required": False,
+                        "description": "Overwrite stored values the upload contradicts",
+                        "schema": {"type": "boolean", "default": False},
+                        "example": False,
+                    }
+                ],
                 "requestBody": {
                     "required": True,
                     "content": {**_json("ReadingsIn"), "text/csv": csv_readings},

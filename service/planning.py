@@ -22,6 +22,7 @@ from service.convert import CAUTIONS
 from service.errors import InvalidScenarioError, validation_errors
 from service.forecasting import check_budget, run_forecast, validated_scenario
 from service.parallel import map_in_processes
+from service.progress import on_step
 from service.schemas import BatchIn, ComparisonIn, PlanIn
 
 PLAN_EVALUATIONS = 14
@@ -38,7 +39,9 @@ def _solve_one(
     control: str, scenario: Scenario, limits: Limits, deadline: float | None
 ) -> dict[str, Any]:
     try:
-        result = solve_control(scenario, control, limits, partial(forecast, deadline=deadline))
+        result = solve_control(
+            scenario, control, limits, partial(forecast, deadline=deadline, on_step=on_step)
+        )
     except ValueError as error:
         return {"status": "not_applicable", "value": None, "note": str(error)}
     return {

@@ -336,11 +336,30 @@ class RejectedRowOut(Out):
     message: str = F("Why", "unknown sensor 'S9'")
 
 
+class ConflictRowOut(Out):
+    """A reading whose sensor and time are stored already with another value."""
+
+    row: int = F("0-based row of the upload", 7)
+    time: str = F("Time, UTC", "2026-11-02T13:00:00Z")
+    sensor: str = F("Sensor id", "S1")
+    temperature_c: float = F("Value posted [C]", 25.75)
+    stored_temperature_c: float = F(
+        "Value stored before this upload [C] (replaced by the posted one with replace=true)", 2.0
+    )
+
+
 class ReadingsReportOut(Out):
     """What happened to an upload of readings."""
 
     accepted: int = F("New readings stored", 140)
-    duplicates: int = F("Readings already stored (same sensor and time), not changed", 4)
+    duplicates: int = F("Readings already stored with the same value, not changed", 4)
+    conflicts: int = F(
+        "Readings already stored (same sensor and time) with another value: left as stored, "
+        "or overwritten with replace=true",
+        1,
+    )
+    conflict_rows: list[ConflictRowOut] = F("The conflicting rows (the first 100)")
+    replaced: int = F("Stored values overwritten (replace=true)", 0)
     rejected: list[RejectedRowOut] = F("Rows not stored, each with its reason")
 
 

@@ -139,7 +139,9 @@ def get_pour(db: Database, pour_id: str) -> dict[str, Any] | None:
 
 def reading_stats(db: Database, pour_id: str) -> tuple[int, datetime | None]:
     """Number of stored readings of a pour and the time of the latest one."""
-    row = db.one("SELECT COUNT(*) AS n, MAX(time) AS last FROM readings WHERE pour_id = ?", (pour_id,))
+    row = db.one(
+        "SELECT COUNT(*) AS n, MAX(time) AS last FROM readings WHERE pour_id = ?", (pour_id,)
+    )
     return row["n"], parse_stored(row["last"]) if row["last"] else None
 
 

@@ -10,9 +10,11 @@ from typing import Any
 from flask import Blueprint, Response, current_app, g, jsonify, request
 from werkzeug.exceptions import BadRequest, NotAcceptable
 
+from service.blueprints.jobs import respond_async
 from service.convert import CAUTIONS, forecast_csv
 from service.errors import InvalidScenarioError
 from service.forecasting import run_forecast
+from service.jobs import wants_async
 from service.limits import request_deadline
 from service.spreadsheet import SpreadsheetQueryIn
 
@@ -40,7 +42,7 @@ def _units() -> None:
     g.units = units
 
 
-def _format(default: str) -> str:
+def forecast_format(default: str) -> str:
     fmt = request.args.get("format")
     if fmt is not None:
         if fmt not in MEDIA_TYPES:
@@ -59,7 +61,7 @@ def _caution_header() -> dict[str, str]:
     return {"Pourheat-Caution": CAUTIONS[0]}
 
 
-def _render(body: dict[str, Any], fmt: str) -> Response:
+def render_forecast(body: dict[str, Any], fmt: str) -> Response:
     """The forecast body in the requested format and units."""
     us = g.units == "us"
     if fmt == "csv":
@@ -97,15 +99,17 @@ def _to_si(payload: Any) -> Any:
 
 @bp.post("/v1/forecasts")
 def create_forecast() -> Response:
-    """Run a forecast for the posted scenario."""
-    fmt = _format("json")
+    """Run a forecast for the posted scenario (or queue it as a job)."""
+    fmt = forecast_format("json")
     payload = request.get_json(silent=True)
     if payload is None:
         raise BadRequest("the body must be a JSON object (Content-Type: application/json)")
+    if wants_async():
+        return respond_async("forecast", _to_si(payload), units=g.units)
     _, body = run_forecast(
         _to_si(payload), current_app.config["MAX_CELL_STEPS"], request_deadline()
     )
-    return _render(body, fmt)
+    return render_forecast(body, fmt)
 
 
 def _query_values() -> dict[str, Any]:
@@ -135,7 +139,7 @@ def query_forecast() -> Response:
     )
     value = request.args.get("value")
     if value is None:
-        return _render(body, _format("csv"))
+        return render_forecast(body, forecast_format("csv"))
     summary = body["summary"]
     if g.units == "us":
         from service.units import body_to_us

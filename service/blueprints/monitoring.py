@@ -6,7 +6,9 @@ from typing import Any
 from flask import Blueprint, Response, current_app, jsonify, request
 from werkzeug.exceptions import NotFound
 
+from service.blueprints.jobs import respond_async
 from service.convert import forecast_csv
+from service.jobs import wants_async
 from service.limits import request_deadline
 from service.monitoring import pour_forecast, pour_status
 from service.store import get_db, get_pour, readings_for, save_status
@@ -31,9 +33,17 @@ def _body(pour: dict[str, Any], readings: list[dict[str, Any]]) -> dict[str, Any
 
 @bp.get("/v1/pours/<pour_id>/forecast")
 def forecast_pour(pour_id: str) -> Response:
-    """Calibrate to the readings so far and forecast ahead; JSON, CSV, SVG or PNG."""
+    """Calibrate to the readings so far and forecast ahead; JSON, CSV, SVG or PNG (or queue it
+    as a job)."""
     pour, readings = _pour_and_readings(pour_id)
-    body = _body(pour, readings)
+    if wants_async():
+        fit_placement = request.args.get("fit_placement", "false").lower() == "true"
+        return respond_async("pour_forecast", {"pour_id": pour_id}, fit_placement=fit_placement)
+    return render_pour_forecast(_body(pour, readings), readings)
+
+
+def render_pour_forecast(body: dict[str, Any], readings: list[dict[str, Any]]) -> Response:
+    """A pour's forecast body as JSON, CSV, or a chart with the measured points."""
     fmt = request.args.get("format", "json")
     if fmt == "csv" or request.accept_mimetypes.best == "text/csv":
         return Response(forecast_csv(body), mimetype="text/csv")

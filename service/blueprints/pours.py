@@ -374,7 +374,9 @@ def _replace_flag() -> bool:
     """``?replace=true``: overwrite stored readings that the upload contradicts."""
     value = request.args.get("replace", "false").lower()
     if value not in ("true", "false"):
-        raise RefusedError(_invalid("Invalid query", [{"field": "replace", "message": "true or false"}]))
+        raise RefusedError(
+            _invalid("Invalid query", [{"field": "replace", "message": "true or false"}])
+        )
     return value == "true"
 
 
