@@ -95,6 +95,10 @@ def _child(writer: Any, database: str, job: dict[str, Any], settings: dict[str, 
     writer.close()
 
 
+def _ready() -> None:
+    """An empty job process (see :meth:`JobRunner._loop`)."""
+
+
 def _kill(process: Any) -> None:
     try:
         os.killpg(process.pid, signal.SIGKILL)
@@ -130,6 +134,13 @@ class JobRunner:
             thread.join(10)
 
     def _loop(self) -> None:
+        # the fork server imports the service (seconds on a busy machine) before this runner
+        # claims a job, so that a job's process starts at once and its lease is renewed from
+        # the start: one empty process started and joined waits for that
+        multiprocessing.set_forkserver_preload(PRELOAD)
+        warm_up = multiprocessing.get_context("forkserver").Process(target=_ready)
+        warm_up.start()
+        warm_up.join()
         db = None
         next_housekeeping = 0.0
         while not self._stop.is_set():
@@ -158,7 +169,6 @@ class JobRunner:
 
     def _run(self, db: Any, job: dict[str, Any]) -> None:
         context = multiprocessing.get_context("forkserver")
-        context.set_forkserver_preload(PRELOAD)
         reader, writer = context.Pipe(duplex=False)
         process = context.Process(
             target=_child, args=(writer, self.database, job, self.settings), daemon=False
