@@ -138,9 +138,12 @@ class JobRunner:
         # claims a job, so that a job's process starts at once and its lease is renewed from
         # the start: one empty process started and joined waits for that
         multiprocessing.set_forkserver_preload(PRELOAD)
-        warm_up = multiprocessing.get_context("forkserver").Process(target=_ready)
-        warm_up.start()
-        warm_up.join()
+        try:
+            warm_up = multiprocessing.get_context("forkserver").Process(target=_ready)
+            warm_up.start()
+            warm_up.join()
+        except Exception:  # jobs will fail to start, each with its reason; requests go on
+            log.exception("job runner: the fork server did not start")
         db = None
         next_housekeeping = 0.0
         while not self._stop.is_set():

@@ -416,3 +416,46 @@ class PourStatusOut(Out):
     )
     calibration: str | None = F("Calibration status", "calibrated to the readings so far")
     cautions: list[str] = F("Cautions", ["Limits come from ..."])
+
+
+class JobProgressOut(Out):
+    """How far a job has got."""
+
+    forecasts_done: int = F("Whole forecasts finished", 3)
+    forecasts_total: int | None = F(
+        "Whole forecasts the job will run; null when a search decides (plans, calibrations)", 5
+    )
+    simulated_h: float | None = F("Hours simulated of the forecast in hand [h]", 96.5)
+    horizon_h: float | None = F("Horizon of the forecast in hand [h]", 168.0)
+
+
+class JobLinksOut(Out):
+    """Where to look."""
+
+    self: str = F("This job", "/v1/jobs/9b1deb4d3b7d4bad9bdd2b0d7b3dcb6d")
+    result: str = F(
+        "The result in any format of the synchronous call",
+        "/v1/jobs/9b1deb4d3b7d4bad9bdd2b0d7b3dcb6d/result",
+    )
+
+
+class JobOut(Out):
+    """An asynchronous job (a compute request sent with Prefer: respond-async)."""
+
+    id: str = F("Job id", "9b1deb4d3b7d4bad9bdd2b0d7b3dcb6d")
+    kind: str = F("forecast, plan, comparison or pour_forecast", "plan")
+    state: str = F("queued, running, done, failed or cancelled", "running")
+    progress: JobProgressOut = F("Progress")
+    created_at: str = F("When it was queued, UTC", "2026-11-02T13:00:00Z")
+    started_at: str | None = F("When its (last) run started, UTC", "2026-11-02T13:00:01Z")
+    finished_at: str | None = F("When it ended, UTC", None)
+    queued_s: float | None = F("Seconds it waited in the queue [s]", 1.0)
+    run_s: float | None = F("Seconds it has run, or ran [s]", 12.5)
+    attempts: int = F("Times it was started (more than 1 if a runner died)", 1)
+    expires_at: str | None = F("When its result is dropped, UTC (set when it ends)", None)
+    links: JobLinksOut = F("Links")
+    error: ProblemOut | None = F("When failed: the problem details of the call", default=None)
+    result_expired: bool | None = F("When done: whether the result has expired", default=None)
+    result: dict[str, Any] | None = F(
+        "When done: the JSON body the synchronous call would have given", default=None
+    )
