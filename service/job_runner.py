@@ -46,6 +46,8 @@ GRACE_S = 30.0
 SETTINGS = ("JOB_MAX_CELL_STEPS", "JOB_TIMEOUT_S")
 PRELOAD = ["service.job_runner", "service.forecasting", "service.planning", "service.monitoring"]
 """Modules the fork server imports once, so that each job's process starts at once."""
+BLAS_THREADS = ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS")
+"""One BLAS thread in job processes: set before the fork server imports numpy."""
 
 
 def _problem(status: int, title: str, detail: str, errors: list | None = None) -> dict[str, Any]:
@@ -79,8 +81,6 @@ def _child(writer: Any, database: str, job: dict[str, Any], settings: dict[str, 
     """Entry point of a job's process: run it and send back ("done", body) or ("failed",
     problem)."""
     os.setpgrp()  # one process group with the workers it forks, so all can be stopped at once
-    for name in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
-        os.environ.setdefault(name, "1")
     progress.report_to(database, job["id"])
     try:
         outcome: tuple[str, Any] = (
@@ -137,6 +137,8 @@ class JobRunner:
         # the fork server imports the service (seconds on a busy machine) before this runner
         # claims a job, so that a job's process starts at once and its lease is renewed from
         # the start: one empty process started and joined waits for that
+        for name in BLAS_THREADS:  # as in the web workers (deploy/gunicorn.conf.py)
+            os.environ.setdefault(name, "1")
         multiprocessing.set_forkserver_preload(PRELOAD)
         try:
             warm_up = multiprocessing.get_context("forkserver").Process(target=_ready)
