@@ -32,7 +32,8 @@ from service.store_sqlite import SqliteDatabase
 
 Database = Any
 """A backend connection: :class:`SqliteDatabase` or :class:`PostgresDatabase`, with
-``transaction()``, ``all``, ``one``, ``run``, ``insert_new`` and ``close``."""
+``dialect``, ``transaction()``, ``all``, ``one``, ``run``, ``insert_new``,
+``stored_temperatures`` and ``close``."""
 POSTGRES_SCHEMES = ("postgresql://", "postgres://")
 SAME_VALUE_C = 1e-9
 """A re-posted reading within this of the stored value is a duplicate, otherwise a conflict."""
