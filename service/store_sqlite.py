@@ -47,7 +47,7 @@ class SqliteDatabase:
         ``schema_version`` (a file made before versioning counts as version 0)."""
         steps = migrations(SQLITE_TYPES)
         latest = steps[-1][0]
-        if self._version() == latest:  # the usual case: no write lock taken
+        if self._version() >= latest:  # the usual case: no write lock taken
             return
         with self.transaction():
             self.connection.execute(
