@@ -13,6 +13,7 @@ or problem comes back through a pipe and is stored by the runner, only while it 
 the lease.
 """
 
+import json
 import logging
 import multiprocessing
 import os
@@ -82,11 +83,9 @@ def _child(writer: Any, database: str, job: dict[str, Any], settings: dict[str, 
     problem)."""
     os.setpgrp()  # one process group with the workers it forks, so all can be stopped at once
     progress.report_to(database, job["id"])
-    try:
-        outcome: tuple[str, Any] = (
-            "done",
-            jobs.execute(job["kind"], job["request"], database, settings),
-        )
+    try:  # the body as JSON text, so that a body JSON cannot hold fails here, as a 500
+        body = jobs.execute(job["kind"], job["request"], database, settings)
+        outcome: tuple[str, Any] = ("done", json.dumps(body))
     except Exception as error:  # every failure becomes the job's problem details
         if problem_of(error)["status"] == 500:
             traceback.print_exc()

@@ -180,12 +180,12 @@ def finish_job(
     db: Database,
     job_id: str,
     owner: str,
-    result: dict[str, Any] | None,
+    result_json: str | None,
     error: dict[str, Any] | None,
     ttl_s: float,
 ) -> bool:
-    """Store the result (state done) or the problem (state failed) of ``owner``'s job; False
-    if it was cancelled meanwhile (the outcome is then dropped)."""
+    """Store the result (JSON text; state done) or the problem (state failed) of ``owner``'s
+    job; False if it was cancelled meanwhile (the outcome is then dropped)."""
     now = _now()
     with db.transaction():
         changed = db.run(
@@ -194,7 +194,7 @@ def finish_job(
             " WHERE id = ? AND lease_owner = ? AND state = 'running'",
             (
                 "done" if error is None else "failed",
-                None if result is None else json.dumps(result),
+                result_json,
                 None if error is None else json.dumps(error),
                 _text(now),
                 _text(now + timedelta(seconds=ttl_s)),
