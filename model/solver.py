@@ -102,6 +102,10 @@ REJECT_RATIO = 2.0
 _SECONDS_PER_HOUR = 3600.0
 
 
+StepHook = Callable[[float, float], None]
+"""Called after each accepted step with (time reached, horizon) [h]."""
+
+
 class ConvergenceError(RuntimeError):
     """The nonlinear step could not be solved even with the smallest allowed step."""
 
@@ -431,31 +435,32 @@ class ThermalSolver:
         }
         return sorted(events) + [sc.duration_h]
 
-    def run(
-        self, deadline: float | None = None, progress: Callable[[float, float], None] | None = None
-    ) -> Forecast:
+    def run(self, deadline: float | None = None, on_step: StepHook | None = None) -> Forecast:
         """March from placement to the end of the forecast and summarise.
 
         ``deadline`` is a ``time.monotonic()`` value after which the run stops with
-        :class:`DeadlineExceededError` (a wall-clock cap for services). ``progress`` is called
-        after each step with the simulated time and the horizon [h].
+        :class:`DeadlineExceededError` (a wall-clock cap for services). ``on_step``, if given,
+        is called after every accepted step with the time reached and the horizon [h] (for
+        progress reports; it may raise to stop the run).
         """
         record = Recorder(self)
-        restarts, energy = self._march(record, deadline, progress)
+        restarts, energy = self._march(record, deadline, on_step)
         return record.forecast(restarts, energy)
 
-    def run_batch(self, deadline: float | None = None) -> BatchForecast:
+    def run_batch(
+        self, deadline: float | None = None, on_step: StepHook | None = None
+    ) -> BatchForecast:
         """March all the variants together (one step sequence, fine enough for every one of
-        them) and summarise each; ``deadline`` as for :meth:`run`."""
+        them) and summarise each; ``deadline`` and ``on_step`` as for :meth:`run`."""
         record = BatchRecorder(self)
-        restarts, energy = self._march(record, deadline)
+        restarts, energy = self._march(record, deadline, on_step)
         return record.forecast(restarts)
 
     def _march(
         self,
         record: Recorder | BatchRecorder,
         deadline: float | None,
-        progress: Callable[[float, float], None] | None = None,
+        on_step: StepHook | None = None,
     ) -> tuple[list[float], EnergyBalance]:
         """Step from placement to the end, handing every accepted state to ``record``; returns
         the removal times (where the history restarted) and the energy balance."""
@@ -513,8 +518,8 @@ class ThermalSolver:
                 lost += 0.5 * (record.loss_w[-1] + loss) * step * _SECONDS_PER_HOUR
                 record.add(new, loss)
                 older, previous, state, last_step = previous, state, new, step
-                if progress is not None:
-                    progress(state.time_h, self.scenario.duration_h)
+                if on_step is not None:
+                    on_step(state.time_h, self.scenario.duration_h)
                 desired = step * min(MAX_STEP_GROWTH, 0.9 / max(change, 1e-6))
                 if not self.pattern.tridiagonal:
                     rung = math.floor(math.log(desired / res.first_step_h, STEP_LADDER) + 1e-9)
@@ -567,14 +572,19 @@ def _error_ratio(
     return (2.0 / 11.0) * gap / tolerance_c
 
 
-def forecast(scenario: Scenario, deadline: float | None = None) -> Forecast:
-    """Forecast a scenario (convenience wrapper around :class:`ThermalSolver`); ``deadline`` as
-    for :meth:`ThermalSolver.run`."""
-    return ThermalSolver(scenario).run(deadline)
+def forecast(
+    scenario: Scenario, deadline: float | None = None, on_step: StepHook | None = None
+) -> Forecast:
+    """Forecast a scenario (convenience wrapper around :class:`ThermalSolver`); ``deadline`` and
+    ``on_step`` as for :meth:`ThermalSolver.run`."""
+    return ThermalSolver(scenario).run(deadline, on_step)
 
 
 def forecast_batch(
-    scenario: Scenario, variations: Variations, deadline: float | None = None
+    scenario: Scenario,
+    variations: Variations,
+    deadline: float | None = None,
+    on_step: StepHook | None = None,
 ) -> BatchForecast:
     """Forecast the variants of a slab scenario together (see :meth:`ThermalSolver.run_batch`)."""
-    return ThermalSolver(scenario, variations).run_batch(deadline)
+    return ThermalSolver(scenario, variations).run_batch(deadline, on_step)

@@ -12,9 +12,16 @@ from typing import Any
 
 from flask import Flask
 
-from service import auth, errors, limits, parallel, store
-from service.blueprints import board, forecasts, health, meta, monitoring, plans, pours
+from service import auth, errors, job_runner, limits, parallel, store
+from service.blueprints import board, forecasts, health, jobs, meta, monitoring, plans, pours
 from service.forecasting import DEFAULT_MAX_CELL_STEPS
+from service.jobs import (
+    DEFAULT_JOB_LEASE_S,
+    DEFAULT_JOB_MAX_CELL_STEPS,
+    DEFAULT_JOB_RESULT_TTL_S,
+    DEFAULT_JOB_TIMEOUT_S,
+    DEFAULT_JOB_WORKERS,
+)
 from service.limits import (
     DEFAULT_FORECAST_TIMEOUT_S,
     DEFAULT_MAX_BODY_BYTES,
@@ -43,6 +50,11 @@ def _settings_from_environment() -> dict[str, Any]:
         "AUTH_TOKENS_FILE": env.get("POURHEAT_TOKENS_FILE") or None,
         "AUTH_READS": False,
         "CORS_ORIGINS": env.get("POURHEAT_CORS_ORIGINS", ""),
+        "JOB_WORKERS": DEFAULT_JOB_WORKERS,
+        "JOB_MAX_CELL_STEPS": DEFAULT_JOB_MAX_CELL_STEPS,
+        "JOB_TIMEOUT_S": DEFAULT_JOB_TIMEOUT_S,
+        "JOB_RESULT_TTL_S": DEFAULT_JOB_RESULT_TTL_S,
+        "JOB_LEASE_S": DEFAULT_JOB_LEASE_S,
     }
 
 
@@ -68,4 +80,6 @@ def create_app(test_config: dict[str, Any] | None = None) -> Flask:
     app.register_blueprint(pours.bp)
     app.register_blueprint(monitoring.bp)
     app.register_blueprint(board.bp)
+    app.register_blueprint(jobs.bp)
+    job_runner.init_app(app)
     return app

@@ -25,7 +25,7 @@ from service.convert import forecast_csv
 from service.errors import InvalidScenarioError, validation_errors
 from service.forecasting import DEFAULT_MAX_CELL_STEPS, run_forecast
 from service.limits import repeated_keys
-from service.progress import ProgressDisplay
+from service.progress_display import ProgressDisplay
 
 EXIT_OK = 0
 EXIT_OUTPUT_ERROR = 1

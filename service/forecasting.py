@@ -6,6 +6,7 @@ Shared by the HTTP blueprints and the command line so both answer the same way.
 import math
 import os
 import time
+from collections.abc import Callable
 from dataclasses import asdict
 from typing import Any
 
@@ -22,6 +23,7 @@ from model.uncertainty import (
     sample_scenarios,
     sample_variations,
 )
+from service import progress as job_progress
 from service.checks import cross_field_errors
 from service.convert import forecast_json, scenario_from
 from service.errors import InvalidScenarioError
@@ -177,12 +179,25 @@ def validated_scenario(
     return scenario_in, scenario, origin
 
 
+def _step_hook(progress: Progress | None) -> Callable[[float, float], None]:
+    """The solver's step hook: the job's progress (service/progress.py), and ``progress`` too
+    when a caller follows the march (the command line's display)."""
+    if progress is None:
+        return job_progress.on_step
+
+    def both(time_h: float, horizon_h: float) -> None:
+        job_progress.on_step(time_h, horizon_h)
+        progress(time_h, horizon_h)
+
+    return both
+
+
 def solve(scenario: Scenario, deadline: float | None = None, progress: Progress | None = None):
     """Run one forecast; a solver failure becomes a 422 naming the scenario. Past ``deadline``
     (a ``time.monotonic()`` value) the solver raises DeadlineExceededError (a 503);
     ``progress(simulated_h, horizon_h)`` follows the march."""
     try:
-        return ThermalSolver(scenario).run(deadline, progress)
+        return ThermalSolver(scenario).run(deadline, _step_hook(progress))
     except ConvergenceError as error:
         raise InvalidScenarioError(
             [{"field": "(scenario)", "message": f"{error}; try a smaller resolution.max_step_h"}]
@@ -190,7 +205,7 @@ def solve(scenario: Scenario, deadline: float | None = None, progress: Progress 
 
 
 def _summary_of(scenario: Scenario, deadline: float | None) -> Summary:
-    return forecast(scenario, deadline).summary
+    return forecast(scenario, deadline, job_progress.on_step).summary
 
 
 def uncertainty_band(
@@ -202,7 +217,8 @@ def uncertainty_band(
     sample on the executor of service/parallel.py (local processes or a Dask cluster).
     """
     if scenario.element.shape == "slab":
-        batch = forecast_batch(scenario, sample_variations(spreads, samples, seed), deadline)
+        variations = sample_variations(spreads, samples, seed)
+        batch = forecast_batch(scenario, variations, deadline, job_progress.on_step)
         peaks, diffs = batch.peak_temperature_c, batch.max_differential_c
     else:
         summaries = run_many(

@@ -15,6 +15,7 @@ from pydantic.json_schema import models_json_schema
 from service.responses import (
     ComparisonOut,
     ForecastOut,
+    JobOut,
     PlanOut,
     PourCreatedOut,
     PourForecastOut,
@@ -60,7 +61,8 @@ CAUTION = (
 AUTH_NOTE = (
     "Access: when the operator configures tokens (POURHEAT_TOKENS), requests that change stored "
     "pours (POST /v1/pours, POST /v1/pours/{pour_id}/readings, DELETE /v1/pours/{pour_id}) need "
-    "`Authorization: Bearer <token>` (the `bearer` security scheme), and so do all other "
+    "`Authorization: Bearer <token>` (the `bearer` security scheme), as does DELETE "
+    "/v1/jobs/{job_id}, and so do all other "
     "requests when POURHEAT_AUTH_READS=true; /healthz, / and /openapi.json stay open. Without a "
     "valid token the answer is 401 with a WWW-Authenticate challenge."
 )
@@ -200,6 +202,111 @@ def _board_paths() -> dict[str, Any]:
     }
 
 
+PREFER = {
+    "name": "Prefer",
+    "in": "header",
+    "required": False,
+    "description": "respond-async (RFC 7240): run the request as a job; the answer is 202 with "
+    "Location: /v1/jobs/{job_id} (the request is checked first: bad input is still a 422 at "
+    "once). Jobs have their own compute budget and time cap (POURHEAT_JOB_MAX_CELL_STEPS, "
+    "POURHEAT_JOB_TIMEOUT_S).",
+    "schema": {"type": "string"},
+    "example": "respond-async",
+}
+JOB_ACCEPTED = {
+    "202": {
+        "description": "Queued as a job (Prefer: respond-async); Location says where to poll",
+        "headers": {
+            "Location": {"schema": {"type": "string"}, "description": "/v1/jobs/{job_id}"},
+            "Preference-Applied": {"schema": {"type": "string", "const": "respond-async"}},
+        },
+        "content": {"application/json": {"schema": {"$ref": "#/components/schemas/JobOut"}}},
+    }
+}
+JOB_ID = {
+    "name": "job_id",
+    "in": "path",
+    "required": True,
+    "description": "Job id",
+    "schema": {"type": "string"},
+    "example": "9b1deb4d3b7d4bad9bdd2b0d7b3dcb6d",
+}
+
+
+def _job_paths() -> dict[str, Any]:
+    """/v1/jobs: state, result and cancellation of asynchronous jobs."""
+    job = {"application/json": {"schema": {"$ref": "#/components/schemas/JobOut"}}}
+    not_found = {"description": "No such job (or its record expired)", "content": PROBLEM}
+    return {
+        "/v1/jobs/{job_id}": {
+            "parameters": [JOB_ID],
+            "get": {
+                "summary": "State, progress and timings of a job; its JSON result when done",
+                "operationId": "getJob",
+                "responses": {"200": {"description": "The job", "content": job}, "404": not_found},
+            },
+            "delete": {
+                "summary": "Cancel a queued or running job, or delete an ended one",
+                "operationId": "deleteJob",
+                "responses": {
+                    "200": {"description": "Cancelled", "content": job},
+                    "204": {"description": "Deleted with its result"},
+                    "404": not_found,
+                },
+            },
+        },
+        "/v1/jobs/{job_id}/result": {
+            "parameters": [JOB_ID],
+            "get": {
+                "summary": "The body the synchronous call would have given, in any of its "
+                "formats (Accept or format=); a failed job answers its problem details",
+                "operationId": "getJobResult",
+                "parameters": [
+                    {
+                        "name": "format",
+                        "in": "query",
+                        "required": False,
+                        "description": "As for the synchronous call: json, csv, svg, png or pdf",
+                        "schema": {
+                            "type": "string",
+                            "enum": ["json", "csv", "svg", "png", "pdf"],
+                        },
+                        "example": "csv",
+                    }
+                ],
+                "responses": {
+                    "200": {
+                        "description": "The result",
+                        "content": {
+                            "application/json": {"schema": {"type": "object"}},
+                            "text/csv": {"schema": {"type": "string"}},
+                            "image/svg+xml": {"schema": {"type": "string"}},
+                            "image/png": {
+                                "schema": {"type": "string", "contentMediaType": "image/png"}
+                            },
+                        },
+                    },
+                    "404": not_found,
+                    "409": {"description": "Not ended yet, or cancelled", "content": PROBLEM},
+                    "410": {"description": "The result has expired", "content": PROBLEM},
+                    **_problems(406, 422, 503),
+                },
+            },
+        },
+    }
+
+
+REPLACE_PARAMETER = {
+    "name": "replace",
+    "in": "query",
+    "required": False,
+    "description": "Overwrite stored values the upload contradicts (the way to correct a wrong "
+    "reading)",
+    "schema": {"type": "boolean", "default": False},
+    "example": False,
+}
+
+
 def _problems(*codes: int) -> dict[str, Any]:
     reasons = {
         400: "Malformed JSON or not a JSON object",
@@ -318,7 +425,7 @@ def _pour_paths() -> dict[str, Any]:
                 "summary": "Store readings (JSON or CSV); duplicates are ignored, bad rows "
                 "reported one by one",
                 "operationId": "addReadings",
-                "parameters": [SI_ONLY_PARAMETER],
+                "parameters": [SI_ONLY_PARAMETER, REPLACE_PARAMETER],
                 "requestBody": {
                     "required": True,
                     "content": {**_json("ReadingsIn"), "text/csv": csv_readings},
@@ -404,8 +511,10 @@ def _pour_paths() -> dict[str, Any]:
                         "example": "svg",
                     },
                     SIZE_PARAMETER,
+                    PREFER,
                 ],
                 "responses": {
+                    **JOB_ACCEPTED,
                     "200": {
                         "description": "The calibrated forecast",
                         "content": {
@@ -459,6 +568,7 @@ def build_spec() -> dict[str, Any]:
             (ReadingsOut, "serialization"),
             (PourForecastOut, "serialization"),
             (PourStatusOut, "serialization"),
+            (JobOut, "serialization"),
         ],
         ref_template=REF,
     )
@@ -542,7 +652,7 @@ def build_spec() -> dict[str, Any]:
                     "description": "Runs the scenario and returns the summary, series and "
                     "cautions. " + CAUTION,
                     "operationId": "createForecast",
-                    "parameters": [UNITS_PARAMETER, format_parameter, SIZE_PARAMETER],
+                    "parameters": [UNITS_PARAMETER, format_parameter, SIZE_PARAMETER, PREFER],
                     "requestBody": {
                         "required": True,
                         "content": {
@@ -552,6 +662,7 @@ def build_spec() -> dict[str, Any]:
                         },
                     },
                     "responses": {
+                        **JOB_ACCEPTED,
                         "200": {"description": "The forecast", "content": forecast_content},
                         **_problems(400, 406, 413, 422, 503),
                     },
@@ -597,7 +708,7 @@ def build_spec() -> dict[str, Any]:
                     "forecasts; the answer meets the limits and one tolerance beyond misses them. "
                     + CAUTION,
                     "operationId": "createPlan",
-                    "parameters": [SI_ONLY_PARAMETER],
+                    "parameters": [SI_ONLY_PARAMETER, PREFER],
                     "requestBody": {
                         "required": True,
                         "content": {
@@ -605,6 +716,7 @@ def build_spec() -> dict[str, Any]:
                         },
                     },
                     "responses": {
+                        **JOB_ACCEPTED,
                         "200": {
                             "description": "One answer per control",
                             "content": {
@@ -626,6 +738,7 @@ def build_spec() -> dict[str, Any]:
                     "parameters": [
                         UNITS_PARAMETER,
                         {**format_parameter, "schema": {"type": "string", "enum": ["json", "csv"]}},
+                        PREFER,
                     ],
                     "requestBody": {
                         "required": True,
@@ -636,6 +749,7 @@ def build_spec() -> dict[str, Any]:
                         },
                     },
                     "responses": {
+                        **JOB_ACCEPTED,
                         "200": {
                             "description": "One row per variant",
                             "content": {
@@ -651,6 +765,7 @@ def build_spec() -> dict[str, Any]:
             },
             **_pour_paths(),
             **_board_paths(),
+            **_job_paths(),
         },
         "components": {
             "schemas": definitions["$defs"],

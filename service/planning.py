@@ -28,6 +28,7 @@ from service.forecasting import (
     validated_scenario,
 )
 from service.parallel import Progress, run_many, tick
+from service.progress import on_step
 from service.schemas import BatchIn, ComparisonIn, PlanIn
 
 PLAN_EVALUATIONS = 14
@@ -46,7 +47,7 @@ def _summary_json(summary: Any) -> dict[str, float]:
 
 def _counted_forecast(scenario: Scenario, deadline: float | None) -> Any:
     """One forecast of a search, reported to the executor's progress."""
-    result = forecast(scenario, deadline)
+    result = forecast(scenario, deadline, on_step)
     tick()
     return result
 

@@ -1,81 +1,70 @@
-"""Progress of long command-line work: a bar on a terminal, plain lines otherwise, or nothing.
+"""Progress of the job running in this process, written to its row in the store.
 
-Work that ends within ``POURHEAT_PROGRESS_DELAY_S`` (default 1 s) shows nothing. On a terminal
-the bar is tqdm's, on standard error so that standard output keeps only the result; when
-standard error is not a terminal (cron, a pipe, a log file) a plain line is written at each
-tenth of the work; ``--quiet`` turns both off.
+A job runs in a process of its own (service/job_runner.py), which calls :func:`report_to`
+once; the forecasts it runs, there or in the processes it forks for parallel work, pass
+:func:`on_step` to the solver. Each process writes through its own connection: the simulated
+hours of the forecast in hand at most once a second, and one more finished forecast (an atomic
+increment) whenever a forecast reaches its horizon. Outside a job :func:`on_step` does nothing.
+
+A process whose parent has gone (the web process was killed) stops at its next step, so no
+job runs on unobserved after its runner died; the job is then re-claimed when its lease
+expires.
 """
 
 import os
-import shutil
-import sys
 import time
-from typing import TextIO
+from dataclasses import dataclass, field
+from typing import Any
 
-from tqdm import tqdm
+from service import store
 
-DEFAULT_DELAY_S = 1.0
-"""Work shorter than this shows no progress [s]; setting POURHEAT_PROGRESS_DELAY_S."""
-LINE_STEPS = 10
-"""Plain-line mode writes a line each time this fraction (1/LINE_STEPS) of the work is done."""
+WRITE_INTERVAL_S = 1.0
+"""Simulated hours are written at most this often per process [s]."""
 
 
-class ProgressDisplay:
-    """A ``progress(done, total)`` callback that draws what it is told.
+@dataclass
+class _Reporter:
+    database: str
+    job_id: str
+    parent_pid: int
+    pid: int = field(default_factory=os.getpid)
+    db: Any = None
+    last_write: float = 0.0
 
-    ``unit`` names what is counted (``h`` of simulated time, ``forecasts``).
-    """
 
-    def __init__(
-        self, label: str, unit: str, quiet: bool = False, stream: TextIO | None = None
-    ) -> None:
-        self.label, self.unit, self.quiet = label, unit, quiet
-        self.stream = stream if stream is not None else sys.stderr
-        self.delay_s = float(os.environ.get("POURHEAT_PROGRESS_DELAY_S", DEFAULT_DELAY_S))
-        self.started = time.monotonic()
-        self.terminal = self.stream.isatty()
-        self.bar: tqdm | None = None
-        self.lines_written = 0
+_reporter: _Reporter | None = None
 
-    def __call__(self, done: float, total: float) -> None:
-        if self.quiet or time.monotonic() - self.started < self.delay_s:
-            return
-        if self.terminal:
-            self._draw_bar(done, total)
-        else:
-            self._write_line(done, total)
 
-    def _draw_bar(self, done: float, total: float) -> None:
-        if self.bar is None:
-            size = shutil.get_terminal_size()
-            self.bar = tqdm(
-                total=round(total, 1),
-                desc=self.label,
-                unit=f" {self.unit}",
-                file=self.stream,
-                leave=False,
-                ncols=min(size.columns, 100),
-                nrows=size.lines,  # a terminal that reports 0 rows would hide the bar
-                bar_format="{desc}: {percentage:3.0f}%|{bar}| {n:g}/{total:g}{unit} "
-                "[{elapsed}<{remaining}]",
-            )
-        self.bar.total = round(total, 1)
-        self.bar.update(round(done, 1) - self.bar.n)
+def report_to(database: str, job_id: str) -> None:
+    """Make this process (and those it forks) report the progress of job ``job_id``."""
+    global _reporter
+    _reporter = _Reporter(database, job_id, os.getppid())
 
-    def _write_line(self, done: float, total: float) -> None:
-        step = int(LINE_STEPS * done / total) if total > 0 else LINE_STEPS
-        if step <= self.lines_written:
-            return
-        self.lines_written = step
-        print(
-            f"{self.label}: {100 * done / total:3.0f} % ({done:g} of {total:g} {self.unit}, "
-            f"{time.monotonic() - self.started:.0f} s)",
-            file=self.stream,
-            flush=True,
+
+def _connection(reporter: _Reporter) -> Any:
+    if reporter.db is None:
+        reporter.db = store.connect(reporter.database)
+    return reporter.db
+
+
+def on_step(time_h: float, horizon_h: float) -> None:
+    """Solver hook: record the simulated hours, and count the forecast when it is finished."""
+    reporter = _reporter
+    if reporter is None:
+        return
+    finished = time_h >= horizon_h - 1e-9
+    now = time.monotonic()
+    if not finished and now - reporter.last_write < WRITE_INTERVAL_S:
+        return
+    if reporter.pid != os.getpid():  # a forked worker: its own connection and parent
+        reporter.pid, reporter.parent_pid, reporter.db = os.getpid(), os.getppid(), None
+    if os.getppid() != reporter.parent_pid:
+        os._exit(1)  # the runner that started this job is gone
+    reporter.last_write = now
+    db = _connection(reporter)
+    with db.transaction():
+        db.run(
+            "UPDATE jobs SET simulated_h = ?, horizon_h = ?,"
+            " forecasts_done = forecasts_done + ? WHERE id = ?",
+            (round(time_h, 3), horizon_h, int(finished), reporter.job_id),
         )
-
-    def close(self) -> None:
-        """Remove the bar (the result is printed next)."""
-        if self.bar is not None:
-            self.bar.close()
-            self.bar = None

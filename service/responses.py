@@ -407,11 +407,30 @@ class RejectedRowOut(Out):
     message: str = F("Why", "unknown sensor 'S9'")
 
 
+class ConflictRowOut(Out):
+    """A reading whose sensor and time are stored already with another value."""
+
+    row: int = F("0-based row of the upload", 7)
+    time: str = F("Time, UTC", "2026-11-02T13:00:00Z")
+    sensor: str = F("Sensor id", "S1")
+    temperature_c: float = F("Value posted [C]", 25.75)
+    stored_temperature_c: float = F(
+        "Value stored before this upload [C] (replaced by the posted one with replace=true)", 2.0
+    )
+
+
 class ReadingsReportOut(Out):
     """What happened to an upload of readings."""
 
     accepted: int = F("New readings stored", 140)
-    duplicates: int = F("Readings already stored (same sensor and time), not changed", 4)
+    duplicates: int = F("Readings already stored with the same value, not changed", 4)
+    conflicts: int = F(
+        "Readings already stored (same sensor and time) with another value: left as stored, "
+        "or overwritten with replace=true",
+        1,
+    )
+    conflict_rows: list[ConflictRowOut] = F("The conflicting rows (the first 100)")
+    replaced: int = F("Stored values overwritten (replace=true)", 0)
     rejected: list[RejectedRowOut] = F(
         "Rows not stored, each with its reason (the first 100; rejected_count says how many)"
     )
@@ -536,3 +555,46 @@ class PourStatusOut(Out):
         "still count in the measured values above"
     )
     cautions: list[str] = F("Cautions", ["Limits come from ..."])
+
+
+class JobProgressOut(Out):
+    """How far a job has got."""
+
+    forecasts_done: int = F("Whole forecasts finished", 3)
+    forecasts_total: int | None = F(
+        "Whole forecasts the job will run; null when a search decides (plans, calibrations)", 5
+    )
+    simulated_h: float | None = F("Hours simulated of the forecast in hand [h]", 96.5)
+    horizon_h: float | None = F("Horizon of the forecast in hand [h]", 168.0)
+
+
+class JobLinksOut(Out):
+    """Where to look."""
+
+    self: str = F("This job", "/v1/jobs/9b1deb4d3b7d4bad9bdd2b0d7b3dcb6d")
+    result: str = F(
+        "The result in any format of the synchronous call",
+        "/v1/jobs/9b1deb4d3b7d4bad9bdd2b0d7b3dcb6d/result",
+    )
+
+
+class JobOut(Out):
+    """An asynchronous job (a compute request sent with Prefer: respond-async)."""
+
+    id: str = F("Job id", "9b1deb4d3b7d4bad9bdd2b0d7b3dcb6d")
+    kind: str = F("forecast, plan, comparison or pour_forecast", "plan")
+    state: str = F("queued, running, done, failed or cancelled", "running")
+    progress: JobProgressOut = F("Progress")
+    created_at: str = F("When it was queued, UTC", "2026-11-02T13:00:00Z")
+    started_at: str | None = F("When its (last) run started, UTC", "2026-11-02T13:00:01Z")
+    finished_at: str | None = F("When it ended, UTC", None)
+    queued_s: float | None = F("Seconds it waited in the queue [s]", 1.0)
+    run_s: float | None = F("Seconds it has run, or ran [s]", 12.5)
+    attempts: int = F("Times it was started (more than 1 if a runner died)", 1)
+    expires_at: str | None = F("When its result is dropped, UTC (set when it ends)", None)
+    links: JobLinksOut = F("Links")
+    error: ProblemOut | None = F("When failed: the problem details of the call", default=None)
+    result_expired: bool | None = F("When done: whether the result has expired", default=None)
+    result: dict[str, Any] | None = F(
+        "When done: the JSON body the synchronous call would have given", default=None
+    )

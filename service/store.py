@@ -1,20 +1,18 @@
-"""Stored pours and their thermocouple readings: stdlib sqlite3, no ORM.
+"""Stored pours, their thermocouple readings, statuses and jobs: plain SQL, no ORM.
 
-One SQLite file (app config ``DATABASE``, env ``POURHEAT_DB``) opened once per request and kept
-in ``flask.g`` (the pattern of the Flask tutorial's ``db.py``); the plain functions below take
-the connection as their first argument so the CLI and other code can use them with
+Two backends with the same guarantees, chosen by the app setting ``DATABASE`` (env
+``POURHEAT_DB``): a file path selects SQLite (service/store_sqlite.py, the embedded default),
+a ``postgresql://`` URL selects PostgreSQL (service/store_postgres.py, psycopg 3 with a
+connection pool). The schema is versioned and migrated on first connection
+(service/store_schema.py). A request's connection is opened on first use and kept in
+``flask.g`` (the pattern of the Flask tutorial's ``db.py``); the plain functions below take the
+connection as their first argument so the CLI, the job runner and tests can use them with
 :func:`connect`.
 
-Settings of every connection:
-
-- ``journal_mode=WAL``: readers never block the writer, so dashboards can read while a logger
-  uploads; several gunicorn workers share the file.
-- ``synchronous=FULL``: a commit is fsynced to the WAL before the request is acknowledged. A
-  200 on an upload tells the gateway it may discard its copy; with NORMAL a committed upload
-  survives a process crash but may be lost on a power cut or OS crash. The cost is one fsync
-  per upload (one transaction however many rows), which is small at logger rates.
-- ``busy_timeout=5000``: concurrent writers wait up to 5 s for the lock instead of failing.
-- ``foreign_keys=ON``: a reading always belongs to a stored pour.
+Guarantees, in both backends: every write is one transaction committed before the request is
+acknowledged, so an acknowledged upload survives a killed worker; a reading is keyed by (pour,
+sensor, instant) and inserted with ``ON CONFLICT DO NOTHING``, so re-posting it, from any
+number of instances at once, stores it once.
 
 Times are stored as UTC text of fixed width, ``YYYY-MM-DDTHH:MM:SS.ffffffZ``, so that text
 order is time order and the same instant written with different offsets is one key (re-posting
@@ -23,47 +21,22 @@ fractional seconds only when present.
 """
 
 import json
-import sqlite3
 import uuid
-from collections.abc import Iterator
-from contextlib import contextmanager
+from dataclasses import dataclass, field
 from datetime import UTC, datetime
 from typing import Any
 
 from flask import Flask, current_app, g
 
-SCHEMA = """
-CREATE TABLE IF NOT EXISTS pours (
-    id TEXT PRIMARY KEY,
-    name TEXT NOT NULL,
-    placed_at TEXT NOT NULL,            -- UTC ISO 8601
-    placed_at_offset TEXT,              -- the instant in the caller's own offset
-    scenario TEXT NOT NULL,             -- JSON, as posted
-    created_at TEXT NOT NULL,
-    archived INTEGER NOT NULL DEFAULT 0
-);
-CREATE TABLE IF NOT EXISTS readings (
-    pour_id TEXT NOT NULL REFERENCES pours(id),
-    sensor TEXT NOT NULL,
-    time TEXT NOT NULL,                 -- UTC ISO 8601
-    hours REAL NOT NULL,                -- since placement
-    temperature_c REAL NOT NULL,
-    received_at TEXT NOT NULL,
-    PRIMARY KEY (pour_id, sensor, time)
-);
-CREATE INDEX IF NOT EXISTS readings_by_time ON readings (pour_id, time);
-CREATE TABLE IF NOT EXISTS statuses (
-    pour_id TEXT PRIMARY KEY REFERENCES pours(id),
-    computed_at TEXT NOT NULL,          -- UTC ISO 8601
-    status TEXT NOT NULL                -- JSON, the latest GET /v1/pours/<id>/status
-);
-"""
-SCHEMA_LAST_OBJECT = "statuses"
-"""The schema is (re)applied, idempotently, when this table is missing."""
+from service.store_sqlite import SqliteDatabase
 
-BUSY_TIMEOUT_MS = 5000
-"""How long a connection waits for another writer's lock [ms]."""
-
+Database = Any
+"""A backend connection: :class:`SqliteDatabase` or :class:`PostgresDatabase`, with
+``dialect``, ``transaction()``, ``all``, ``one``, ``run``, ``insert_new``,
+``stored_temperatures`` and ``close``."""
+POSTGRES_SCHEMES = ("postgresql://", "postgres://")
+SAME_VALUE_C = 1e-9
+"""A re-posted reading within this of the stored value is a duplicate, otherwise a conflict."""
 
 HOURS_DECIMALS = 6
 """Hours since placement are returned to 1e-6 h (3.6 ms)."""
@@ -92,25 +65,22 @@ def hours_between(start: datetime, end: datetime) -> float:
     return (end - start).total_seconds() / 3600.0
 
 
-def connect(path: str) -> sqlite3.Connection:
-    """Open the database at ``path`` with the settings above, creating the schema if needed.
-
-    The connection is in autocommit mode; writes go through explicit transactions.
-    """
-    db = sqlite3.connect(path, timeout=BUSY_TIMEOUT_MS / 1000, isolation_level=None)
-    db.row_factory = sqlite3.Row
-    # busy_timeout first: switching a new file to WAL needs a lock another worker may hold
-    db.execute(f"PRAGMA busy_timeout={BUSY_TIMEOUT_MS}")
-    db.execute("PRAGMA journal_mode=WAL")
-    db.execute("PRAGMA synchronous=FULL")
-    db.execute("PRAGMA foreign_keys=ON")
-    found = db.execute("SELECT 1 FROM sqlite_master WHERE name = ?", (SCHEMA_LAST_OBJECT,))
-    if found.fetchone() is None:
-        db.executescript(SCHEMA)
-    return db
+def is_postgres(url: str) -> bool:
+    """Whether a ``DATABASE`` setting names a PostgreSQL database."""
+    return url.startswith(POSTGRES_SCHEMES)
 
 
-def get_db() -> sqlite3.Connection:
+def connect(url: str) -> Database:
+    """Open the database named by ``url`` (a SQLite file path or a ``postgresql://`` URL),
+    migrating its schema if needed. Close it with ``.close()``."""
+    if is_postgres(url):
+        from service.store_postgres import PostgresDatabase
+
+        return PostgresDatabase(url)
+    return SqliteDatabase(url)
+
+
+def get_db() -> Database:
     """The request's connection, opened on first use."""
     if "db" not in g:
         g.db = connect(current_app.config["DATABASE"])
@@ -129,23 +99,11 @@ def init_app(app: Flask) -> None:
     app.teardown_appcontext(close_db)
 
 
-@contextmanager
-def _write(db: sqlite3.Connection) -> Iterator[sqlite3.Connection]:
-    """One write transaction, taken with the write lock up front (no lock upgrade deadlock)."""
-    db.execute("BEGIN IMMEDIATE")
-    try:
-        yield db
-    except BaseException:
-        db.execute("ROLLBACK")
-        raise
-    db.execute("COMMIT")
-
-
-def create_pour(db: sqlite3.Connection, name: str, placed_at: datetime, scenario: dict) -> str:
+def create_pour(db: Database, name: str, placed_at: datetime, scenario: dict) -> str:
     """Store a pour (``placed_at`` aware); returns its new id."""
     pour_id = uuid.uuid4().hex[:12]
-    with _write(db):
-        db.execute(
+    with db.transaction():
+        db.run(
             "INSERT INTO pours (id, name, placed_at, placed_at_offset, scenario, created_at)"
             " VALUES (?, ?, ?, ?, ?, ?)",
             (
@@ -160,7 +118,7 @@ def create_pour(db: sqlite3.Connection, name: str, placed_at: datetime, scenario
     return pour_id
 
 
-def _pour(row: sqlite3.Row) -> dict[str, Any]:
+def _pour(row: Any) -> dict[str, Any]:
     return {
         "id": row["id"],
         "name": row["name"],
@@ -171,33 +129,33 @@ def _pour(row: sqlite3.Row) -> dict[str, Any]:
     }
 
 
-def get_pour(db: sqlite3.Connection, pour_id: str) -> dict[str, Any] | None:
+def get_pour(db: Database, pour_id: str) -> dict[str, Any] | None:
     """The pour, or None: id, name, placed_at (aware, UTC), placed_at_local (the instant in the
     caller's offset, text), scenario (dict), archived (bool), created_at (aware, UTC)."""
-    row = db.execute("SELECT * FROM pours WHERE id = ?", (pour_id,)).fetchone()
+    row = db.one("SELECT * FROM pours WHERE id = ?", (pour_id,))
     if row is None:
         return None
     return {**_pour(row), "scenario": json.loads(row["scenario"])}
 
 
-def reading_stats(db: sqlite3.Connection, pour_id: str) -> tuple[int, datetime | None]:
+def reading_stats(db: Database, pour_id: str) -> tuple[int, datetime | None]:
     """Number of stored readings of a pour and the time of the latest one."""
-    count, last = db.execute(
-        "SELECT COUNT(*), MAX(time) FROM readings WHERE pour_id = ?", (pour_id,)
-    ).fetchone()
-    return count, parse_stored(last) if last else None
+    row = db.one(
+        "SELECT COUNT(*) AS n, MAX(time) AS last FROM readings WHERE pour_id = ?", (pour_id,)
+    )
+    return row["n"], parse_stored(row["last"]) if row["last"] else None
 
 
-def list_pours(db: sqlite3.Connection, include_archived: bool = False) -> list[dict[str, Any]]:
+def list_pours(db: Database, include_archived: bool = False) -> list[dict[str, Any]]:
     """Pours, latest placement first, without their scenarios but with ``readings_count`` and
     ``last_reading_time`` (aware datetime or None)."""
-    rows = db.execute(
+    rows = db.all(
         "SELECT p.*, COALESCE(r.n, 0) AS readings_count, r.last AS last_reading_time"
         " FROM pours p LEFT JOIN (SELECT pour_id, COUNT(*) AS n, MAX(time) AS last"
         " FROM readings GROUP BY pour_id) r ON r.pour_id = p.id"
         " WHERE ? OR p.archived = 0 ORDER BY p.placed_at DESC, p.id",
         (include_archived,),
-    ).fetchall()
+    )
     return [
         {
             **_pour(row),
@@ -210,40 +168,68 @@ def list_pours(db: sqlite3.Connection, include_archived: bool = False) -> list[d
     ]
 
 
-def archive_pour(db: sqlite3.Connection, pour_id: str) -> bool:
+def archive_pour(db: Database, pour_id: str) -> bool:
     """Mark a pour archived (kept, readable, closed to new readings); False if there is none."""
-    with _write(db):
-        cursor = db.execute("UPDATE pours SET archived = 1 WHERE id = ?", (pour_id,))
-    return cursor.rowcount > 0
+    with db.transaction():
+        changed = db.run("UPDATE pours SET archived = 1 WHERE id = ?", (pour_id,))
+    return changed > 0
+
+
+@dataclass
+class UploadResult:
+    """What an upload did: rows stored new, rows already stored with the same value, and the
+    positions (in the rows given) of rows whose stored value differs, with that value; with
+    ``replace`` those were overwritten and are counted in ``replaced``."""
+
+    accepted: int = 0
+    duplicates: int = 0
+    conflicts: list[tuple[int, float]] = field(default_factory=list)
+    replaced: int = 0
 
 
 def add_readings(
-    db: sqlite3.Connection,
+    db: Database,
     pour_id: str,
     rows: list[tuple[datetime, str, float]],
     placed_at: datetime,
-) -> tuple[int, int]:
-    """Store (time, sensor, temperature_c) rows in one committed transaction; a row whose
-    (sensor, time) is already stored is left as it was. Returns (accepted, duplicates)."""
+    replace: bool = False,
+) -> UploadResult:
+    """Store (time, sensor, temperature_c) rows in one committed transaction. A row whose
+    (sensor, time) is already stored (or repeated within ``rows``) is a duplicate if its value
+    is the stored one, otherwise a conflict: left as stored, or overwritten with ``replace``."""
     received_at = stored_time(datetime.now(UTC))
     values = [
         (pour_id, sensor, stored_time(time), hours_between(placed_at, time), temp, received_at)
         for time, sensor, temp in rows
     ]
-    with _write(db):
-        before = db.total_changes
-        db.executemany(
-            "INSERT OR IGNORE INTO readings"
-            " (pour_id, sensor, time, hours, temperature_c, received_at)"
-            " VALUES (?, ?, ?, ?, ?, ?)",
+    result = UploadResult()
+    with db.transaction():
+        inserted = db.insert_new(
+            "INSERT INTO readings (pour_id, sensor, time, hours, temperature_c, received_at)"
+            " VALUES (?, ?, ?, ?, ?, ?) ON CONFLICT (pour_id, sensor, time) DO NOTHING",
             values,
         )
-        accepted = db.total_changes - before
-    return accepted, len(values) - accepted
+        result.accepted = sum(inserted)
+        repeated = [i for i, new in enumerate(inserted) if not new]
+        stored_c = db.stored_temperatures(pour_id, [values[i][1:3] for i in repeated])
+        for index in repeated:
+            row = values[index]
+            stored = stored_c[row[1:3]]
+            if abs(stored - row[4]) <= SAME_VALUE_C:
+                result.duplicates += 1
+                continue
+            result.conflicts.append((index, stored))
+            if replace:
+                result.replaced += db.run(
+                    "UPDATE readings SET temperature_c = ?, received_at = ?"
+                    " WHERE pour_id = ? AND sensor = ? AND time = ?",
+                    (row[4], received_at, *row[:3]),
+                )
+    return result
 
 
 def readings_for(
-    db: sqlite3.Connection,
+    db: Database,
     pour_id: str,
     start: datetime | None = None,
     end: datetime | None = None,
@@ -271,24 +257,24 @@ def readings_for(
             "temperature_c": row["temperature_c"],
             "hours": round(row["hours"], HOURS_DECIMALS),
         }
-        for row in db.execute(sql, params)
+        for row in db.all(sql, params)
     ]
 
 
-def save_status(db: sqlite3.Connection, pour_id: str, status: dict[str, Any]) -> None:
+def save_status(db: Database, pour_id: str, status: dict[str, Any]) -> None:
     """Keep the latest computed status of a pour (replacing the previous one)."""
-    with _write(db):
-        db.execute(
-            "INSERT OR REPLACE INTO statuses (pour_id, computed_at, status) VALUES (?, ?, ?)",
+    with db.transaction():
+        db.run(
+            "INSERT INTO statuses (pour_id, computed_at, status) VALUES (?, ?, ?)"
+            " ON CONFLICT (pour_id) DO UPDATE"
+            " SET computed_at = excluded.computed_at, status = excluded.status",
             (pour_id, stored_time(datetime.now(UTC)), json.dumps(status)),
         )
 
 
-def latest_status(db: sqlite3.Connection, pour_id: str) -> dict[str, Any] | None:
+def latest_status(db: Database, pour_id: str) -> dict[str, Any] | None:
     """The latest computed status of a pour with its ``computed_at`` time (ISO, UTC), or None."""
-    row = db.execute(
-        "SELECT computed_at, status FROM statuses WHERE pour_id = ?", (pour_id,)
-    ).fetchone()
+    row = db.one("SELECT computed_at, status FROM statuses WHERE pour_id = ?", (pour_id,))
     if row is None:
         return None
     return {**json.loads(row["status"]), "computed_at": iso_utc(parse_stored(row["computed_at"]))}

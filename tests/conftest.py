@@ -9,10 +9,14 @@ for _name in ("OPENBLAS_NUM_THREADS", "OMP_NUM_THREADS", "MKL_NUM_THREADS"):
 
 import copy  # noqa: E402
 import shutil  # noqa: E402
+import uuid  # noqa: E402
+from collections.abc import Iterator  # noqa: E402
+from typing import NoReturn  # noqa: E402
 
 import pytest  # noqa: E402
 
 from service.app import create_app  # noqa: E402
+from tests.servers import PostgresServer, postgres_bin_dir  # noqa: E402
 
 CONTRACT_SCENARIO = {
     "element": {"shape": "slab", "thickness_m": 2.0},
@@ -71,10 +75,7 @@ def require_program(name: str, why: str) -> str:
     """
     path = shutil.which(name)
     if path is None:
-        message = f"{name} not found ({why}); .ci/run installs it"
-        if os.environ.get("POURHEAT_REQUIRE_SYSTEM", "").lower() == "true":
-            pytest.fail(message)
-        pytest.skip(message)
+        _missing(f"{name} not found ({why}); .ci/run installs it")
     return path
 
 
@@ -96,3 +97,49 @@ def keep_artefact(path, name: str | None = None, width_px: int = 800) -> None:
         if image.width > width_px:
             image = image.resize((width_px, round(image.height * width_px / image.width)))
         image.quantize(colors=128).save(target, optimize=True)
+
+
+def _missing(message: str) -> NoReturn:
+    """Skip locally, fail in CI (see :func:`require_program`)."""
+    if os.environ.get("POURHEAT_REQUIRE_SYSTEM", "").lower() == "true":
+        pytest.fail(message)
+    pytest.skip(message)
+
+
+@pytest.fixture(scope="session")
+def postgres_server() -> Iterator[PostgresServer]:
+    """A real PostgreSQL server for the session (initdb + pg_ctl in a temporary folder, on a
+    free loopback port), stopped at the end. Skipped locally without the binaries (Debian
+    package postgresql), failed in CI."""
+    bin_dir = postgres_bin_dir()
+    if bin_dir is None:
+        _missing("initdb/pg_ctl not found (PostgreSQL store tests); .ci/run installs postgresql")
+    server = PostgresServer(bin_dir)
+    try:
+        server.start()
+        yield server
+    finally:
+        server.stop()
+
+
+@pytest.fixture(params=["sqlite", "postgresql"])
+def database_url(request, tmp_path) -> Iterator[str]:
+    """The store's ``DATABASE`` setting for one test, for each backend: a fresh SQLite file,
+    or a fresh schema (through ``search_path``) in the session's PostgreSQL server."""
+    if request.param == "sqlite":
+        yield str(tmp_path / "store.sqlite3")
+        return
+    import psycopg
+
+    from service.store_postgres import close_pools
+
+    server = request.getfixturevalue("postgres_server")
+    schema = f"t_{uuid.uuid4().hex[:12]}"
+    with psycopg.connect(server.url, autocommit=True) as admin:
+        admin.execute(f"CREATE SCHEMA {schema}")
+    try:
+        yield f"{server.url}?options=-csearch_path%3D{schema}"
+    finally:
+        close_pools()
+        with psycopg.connect(server.url, autocommit=True) as admin:
+            admin.execute(f"DROP SCHEMA {schema} CASCADE")

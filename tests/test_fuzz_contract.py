@@ -73,7 +73,7 @@ FEWER = {
     "boardChart": 4,
 }
 """Calibrations of the stored pour (about 1.5 s each) over a small input space."""
-NOTHING_TO_NEGATE = {"healthz", "showPour", "archivePour", "pourStatus"} | {
+NOTHING_TO_NEGATE = {"healthz", "showPour", "archivePour", "pourStatus", "getJob", "deleteJob"} | {
     "boardIndex",
     "boardPour",
     "boardReport",
@@ -81,8 +81,9 @@ NOTHING_TO_NEGATE = {"healthz", "showPour", "archivePour", "pourStatus"} | {
     "boardLogout",
 }
 """Operations without an input schemathesis can make invalid (no body, no query parameters;
-``pour_id`` is any string and is drawn from the stored ids): negative generation is
-unsatisfiable for them, so they run with valid data only, the unknown pour id included."""
+``pour_id`` and ``job_id`` are any string, ``pour_id`` drawn from the stored ids): negative
+generation is unsatisfiable for them, so they run with valid data only, the unknown pour id
+included."""
 UNKNOWN_POUR = "0123456789ab"
 
 POUR_SCENARIO: dict[str, Any] = {

@@ -20,8 +20,9 @@ SENSORS = [
 
 
 @pytest.fixture
-def app(tmp_path):
-    return create_app({"TESTING": True, "DATABASE": str(tmp_path / "m.sqlite3")})
+def app(database_url):
+    """The app with a fresh database, once per store backend (SQLite, PostgreSQL)."""
+    return create_app({"TESTING": True, "DATABASE": database_url})
 
 
 @pytest.fixture
@@ -71,11 +72,9 @@ def test_reforecast_moves_to_the_truth(client):
     assert posted.get_json()["accepted"] == 144
     again = client.post(f"/v1/pours/{pour}/readings", data=csv_text, content_type="text/csv")
     assert again.get_json() == {
-        "accepted": 0,
-        "duplicates": 144,
-        "rejected": [],
-        "rejected_count": 0,
-    }
+        "accepted": 0, "duplicates": 144, "conflicts": 0, "conflict_rows": [], "replaced": 0,
+        "rejected": [], "rejected_count": 0,
+    }  # fmt: skip
     body = client.get(f"/v1/pours/{pour}/forecast").get_json()
     calibration = body["calibration"]
     assert calibration["readings_used"] == 144

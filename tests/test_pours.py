@@ -10,6 +10,7 @@ import subprocess
 import sys
 import threading
 import time
+from contextlib import closing
 from datetime import UTC, datetime, timedelta, timezone
 from pathlib import Path
 
@@ -17,6 +18,7 @@ import gunicorn.config
 import pytest
 import requests
 
+from service import store
 from service.app import create_app
 from tests.conftest import CONTRACT_SCENARIO
 
@@ -42,9 +44,9 @@ def _reading(minutes: float, sensor: str = "S1", temp: float = 25.0) -> dict:
 
 
 @pytest.fixture
-def app(tmp_path):
-    """The app with its database in a fresh temporary directory."""
-    return create_app({"TESTING": True, "DATABASE": str(tmp_path / "t.sqlite3")})
+def app(database_url):
+    """The app with a fresh database, once per store backend (SQLite, PostgreSQL)."""
+    return create_app({"TESTING": True, "DATABASE": database_url})
 
 
 @pytest.fixture
@@ -137,11 +139,9 @@ def test_json_readings_stored_and_returned_in_order(client, pour_id):
     response = client.post(f"/v1/pours/{pour_id}/readings", json={"readings": readings})
     assert response.status_code == 200
     assert response.get_json() == {
-        "accepted": 3,
-        "duplicates": 0,
-        "rejected": [],
-        "rejected_count": 0,
-    }
+        "accepted": 3, "duplicates": 0, "conflicts": 0, "conflict_rows": [], "replaced": 0,
+        "rejected": [], "rejected_count": 0,
+    }  # fmt: skip
 
     got = client.get(f"/v1/pours/{pour_id}/readings").get_json()["readings"]
     assert [(r["sensor"], r["temperature_c"], r["hours"]) for r in got] == [
@@ -160,14 +160,50 @@ def test_repost_is_idempotent_whatever_the_offset(client, pour_id):
     url = f"/v1/pours/{pour_id}/readings"
     assert client.post(url, json={"readings": readings}).get_json()["accepted"] == 10
     again = client.post(url, json={"readings": readings}).get_json()
-    assert again == {"accepted": 0, "duplicates": 10, "rejected": [], "rejected_count": 0}
+    assert again == {
+        "accepted": 0, "duplicates": 10, "conflicts": 0, "conflict_rows": [], "replaced": 0,
+        "rejected": [], "rejected_count": 0,
+    }  # fmt: skip
     # the same instant written in another offset is the same reading
     shifted = (PLACED_AT + timedelta(minutes=10)).astimezone(timezone(timedelta(hours=-5)))
-    other = {"time": shifted.isoformat(), "sensor": "S1", "temperature_c": 99.0}
-    assert client.post(url, json={"readings": [other]}).get_json()["duplicates"] == 1
+    same = {"time": shifted.isoformat(), "sensor": "S1", "temperature_c": 21.0}
+    assert client.post(url, json={"readings": [same]}).get_json()["duplicates"] == 1
     got = client.get(url).get_json()["readings"]
     assert len(got) == 10
-    assert got[1]["temperature_c"] == 21.0  # the first stored value is kept
+
+
+def test_conflicting_repost_is_reported_and_replace_corrects_it(client, pour_id):
+    """A reading re-posted with another value is a conflict, not a duplicate: counted and
+    listed with the stored value, left as stored; ``?replace=true`` overwrites it."""
+    url = f"/v1/pours/{pour_id}/readings"
+    assert client.post(url, json={"readings": [_reading(0, "S1", 2.0)]}).status_code == 200
+    upload = [_reading(0, "S1", 25.75), _reading(0, "S1", 2.0), _reading(5, "S1", 26.0)]
+    answer = client.post(url, json={"readings": upload}).get_json()
+    assert answer["accepted"] == 1
+    assert answer["duplicates"] == 1
+    assert answer["conflicts"] == 1
+    assert answer["replaced"] == 0
+    assert answer["conflict_rows"] == [
+        {"row": 0, "time": _z(PLACED_AT), "sensor": "S1", "temperature_c": 25.75,
+         "stored_temperature_c": 2.0},
+    ]  # fmt: skip
+    assert client.get(url).get_json()["readings"][0]["temperature_c"] == 2.0
+    # a conflict inside one CSV upload is found too (the second row contradicts the first)
+    csv_body = f"time,sensor,temperature_c\n{_z(PLACED_AT + timedelta(minutes=9))},S2,30\n"
+    csv_body += f"{_z(PLACED_AT + timedelta(minutes=9))},S2,31\n"
+    inside = client.post(url, data=csv_body, content_type="text/csv").get_json()
+    assert (inside["accepted"], inside["conflicts"], inside["conflict_rows"][0]["row"]) == (1, 1, 1)
+
+    corrected = client.post(
+        f"{url}?replace=true", json={"readings": [_reading(0, "S1", 25.75)]}
+    ).get_json()
+    assert (corrected["conflicts"], corrected["replaced"]) == (1, 1)
+    assert corrected["conflict_rows"][0]["stored_temperature_c"] == 2.0  # the value replaced
+    stored = client.get(f"{url}?sensor=S1").get_json()["readings"]
+    assert [r["temperature_c"] for r in stored] == [25.75, 26.0]
+    bad = client.post(f"{url}?replace=yes", json={"readings": [_reading(0, "S1", 1.0)]})
+    assert bad.status_code == 422
+    assert bad.get_json()["errors"][0]["field"] == "replace"
 
 
 def test_bad_rows_rejected_good_rows_stored(client, pour_id):
@@ -271,10 +307,8 @@ def test_window_bounds_need_an_offset(client, pour_id):
     assert response.get_json()["errors"][0]["field"] == "from"
 
 
-def test_too_many_rows_is_413(tmp_path):
-    app = create_app(
-        {"TESTING": True, "DATABASE": str(tmp_path / "t.sqlite3"), "MAX_READINGS_PER_UPLOAD": 3}
-    )
+def test_too_many_rows_is_413(database_url):
+    app = create_app({"TESTING": True, "DATABASE": database_url, "MAX_READINGS_PER_UPLOAD": 3})
     client = app.test_client()
     payload = {"name": "Mat", "placed_at": _z(PLACED_AT), "scenario": _scenario()}
     pid = client.post("/v1/pours", json=payload).get_json()["id"]
@@ -332,10 +366,10 @@ def _free_port() -> int:
         return s.getsockname()[1]
 
 
-def test_acknowledged_readings_survive_sigkill(tmp_path):
+def test_acknowledged_readings_survive_sigkill(tmp_path, database_url):
     """Kill gunicorn (master and workers) with SIGKILL mid-upload: every reading acknowledged
-    with a 200 is in the database afterwards, and the database passes its integrity check."""
-    db_path = tmp_path / "kill.sqlite3"
+    with a 200 is in the database afterwards (each backend), and a SQLite file passes its
+    integrity check."""
     port = _free_port()
     base = f"http://127.0.0.1:{port}"
     log = (tmp_path / "gunicorn.log").open("w")
@@ -345,7 +379,7 @@ def test_acknowledged_readings_survive_sigkill(tmp_path):
     server = subprocess.Popen(
         [sys.executable, "-m", "gunicorn", "-w", "2", "-b", f"127.0.0.1:{port}", *quiet,
          "service.app:create_app()"],
-        cwd=REPO, env={**os.environ, "POURHEAT_DB": str(db_path)}, stdout=log, stderr=log,
+        cwd=REPO, env={**os.environ, "POURHEAT_DB": database_url}, stdout=log, stderr=log,
         start_new_session=True,
     )  # fmt: skip
     acknowledged: list[tuple[str, str]] = []
@@ -401,12 +435,14 @@ def test_acknowledged_readings_survive_sigkill(tmp_path):
 
     assert len(acknowledged) >= 20 * 50
     print(f"{len(acknowledged)} readings acknowledged before the kill")
-    db = sqlite3.connect(db_path)
+    if not store.is_postgres(database_url):
+        with closing(sqlite3.connect(database_url)) as check:
+            assert check.execute("PRAGMA integrity_check").fetchone()[0] == "ok"
+    db = store.connect(database_url)
     try:
-        assert db.execute("PRAGMA integrity_check").fetchone()[0] == "ok"
         stored = {
-            (datetime.fromisoformat(t).replace(microsecond=0), s)
-            for t, s in db.execute("SELECT time, sensor FROM readings WHERE pour_id = ?", (pid,))
+            (datetime.fromisoformat(r["time"]).replace(microsecond=0), r["sensor"])
+            for r in db.all("SELECT time, sensor FROM readings WHERE pour_id = ?", (pid,))
         }
     finally:
         db.close()

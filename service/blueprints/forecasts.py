@@ -10,9 +10,11 @@ from typing import Any
 from flask import Blueprint, Response, current_app, g, jsonify, request
 from werkzeug.exceptions import BadRequest, NotAcceptable
 
+from service.blueprints.jobs import respond_async
 from service.convert import CAUTIONS, forecast_csv
 from service.errors import InvalidScenarioError
 from service.forecasting import run_forecast
+from service.jobs import wants_async
 from service.limits import request_deadline
 from service.negotiation import choose_format, requested_units
 from service.schemas import ScenarioIn
@@ -75,8 +77,9 @@ def chart_size() -> str:
     return size
 
 
-def _render(scenario_in: ScenarioIn, body: dict[str, Any], fmt: str) -> Response:
-    """The forecast body in the requested format and units."""
+def render_forecast(body: dict[str, Any], fmt: str, scenario_in: ScenarioIn) -> Response:
+    """The forecast body of ``scenario_in`` in the requested format and units (also the result
+    of a forecast job)."""
     us = g.units == "us"
     if fmt in ("svg", "png", "pdf"):
         try:
@@ -129,15 +132,17 @@ def _to_si(payload: Any) -> Any:
 
 @bp.post("/v1/forecasts")
 def create_forecast() -> Response:
-    """Run a forecast for the posted scenario."""
+    """Run a forecast for the posted scenario (or queue it as a job)."""
     fmt = choose_format(MEDIA_TYPES, "json")
     payload = request.get_json(silent=True)
     if payload is None:
         raise BadRequest("the body must be a JSON object (Content-Type: application/json)")
+    if wants_async():
+        return respond_async("forecast", _to_si(payload), units=g.units)
     scenario_in, body = run_forecast(
         _to_si(payload), current_app.config["MAX_CELL_STEPS"], request_deadline()
     )
-    return _render(scenario_in, body, fmt)
+    return render_forecast(body, fmt, scenario_in)
 
 
 def _query_values() -> dict[str, Any]:
@@ -172,7 +177,7 @@ def query_forecast() -> Response:
         query.scenario_payload(), current_app.config["MAX_CELL_STEPS"], request_deadline()
     )
     if value is None:
-        return _render(scenario_in, body, fmt)
+        return render_forecast(body, fmt, scenario_in)
     summary = body["summary"]
     if g.units == "us":
         from service.units import body_to_us

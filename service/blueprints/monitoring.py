@@ -3,12 +3,14 @@ measured points) and GET /v1/pours/<id>/status (compact, for dashboards)."""
 
 from typing import Any
 
-from flask import Blueprint, Response, current_app, jsonify, request
+from flask import Blueprint, Response, current_app, g, jsonify, request
 from werkzeug.exceptions import NotFound
 
 from service import units
 from service.blueprints.forecasts import chart_size
+from service.blueprints.jobs import respond_async
 from service.convert import forecast_csv
+from service.jobs import wants_async
 from service.limits import request_deadline
 from service.monitoring import pour_forecast, pour_status
 from service.negotiation import choose_format, requested_units
@@ -46,13 +48,28 @@ def _body(pour: dict[str, Any], readings: list[dict[str, Any]]) -> dict[str, Any
 @bp.get("/v1/pours/<pour_id>/forecast")
 def forecast_pour(pour_id: str) -> Response:
     """Calibrate to the readings so far and forecast ahead; JSON, CSV, SVG, PNG (``?size=``)
-    or a PDF report; SI or, with ``units=us``, US customary units (the PDF report is in SI)."""
-    us = requested_units() == "us"
+    or a PDF report (or queue it as a job); SI or, with ``units=us``, US customary units (the
+    PDF report is in SI)."""
+    requested_units()
     fmt = choose_format(MEDIA_TYPES, "json")
     pour, readings = _pour_and_readings(pour_id)
     if fmt in CHART_MEDIA:
         chart_size()  # a bad size is refused before any computing
-    body = _body(pour, readings)
+    if wants_async():
+        fit_placement = request.args.get("fit_placement", "false").lower() == "true"
+        return respond_async(
+            "pour_forecast", {"pour_id": pour_id}, fit_placement=fit_placement, units=g.units
+        )
+    return render_pour_forecast(pour, _body(pour, readings), readings)
+
+
+def render_pour_forecast(
+    pour: dict[str, Any], body: dict[str, Any], readings: list[dict[str, Any]]
+) -> Response:
+    """A pour's forecast body as JSON, CSV, a chart with the readings or a PDF report, in the
+    request's units (also the result of a pour-forecast job)."""
+    us = g.units == "us"
+    fmt = choose_format(MEDIA_TYPES, "json")
     if fmt == "csv":
         text = forecast_csv(body)
         return Response(units.csv_to_us(text) if us else text, mimetype="text/csv")

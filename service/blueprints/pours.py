@@ -6,7 +6,10 @@ a site logger's local clock is ambiguous) and always answered in UTC with ``Z``,
 ``2025-06-01T06:00:00Z``, with fractional seconds only when the time has them. Uploads are
 checked row by row: good rows are stored in one transaction before the answer, rejected rows
 are reported with their 0-based index in the upload and never stored. Re-posting a reading
-already stored (same sensor, same instant) is counted as a duplicate and changes nothing.
+already stored (same sensor, same instant) with the same value is counted as a duplicate and
+changes nothing; with a different value it is a conflict, reported with the stored value and
+left as stored, unless the upload says ``?replace=true``, which overwrites it (the way to
+correct a wrong reading).
 
 The body is read whole before any row is looked at (service/limits.py): a body over the size
 limit is refused as a whole (413), whatever its transfer encoding, and nothing of it is stored.
@@ -53,6 +56,8 @@ EARLIEST_PLACED_AT = datetime(2000, 1, 1, tzinfo=UTC)
 year 1 broke every later upload)."""
 LATEST_PLACED_AHEAD = timedelta(days=366)
 """A pour may be stored up to a year before it is placed (planned pours)."""
+MAX_CONFLICT_ROWS = 100
+"""Conflicting rows listed in an upload's answer (all are counted)."""
 
 
 def _invalid(title: str, errors: list[dict[str, str]]) -> Response:
@@ -373,7 +378,9 @@ def _sensor_list(sensors: set[str], most: int = 20) -> str:
 @bp.post("/v1/pours/<pour_id>/readings")
 def add_readings(pour_id: str) -> Response:
     """Add readings: JSON {"readings": [{time, sensor, temperature_c}, ...]} or text/csv with
-    the header ``time,sensor,temperature_c``. Answers {accepted, duplicates, rejected}."""
+    the header ``time,sensor,temperature_c``; ``?replace=true`` overwrites conflicting stored
+    values. Answers {accepted, duplicates, conflicts, conflict_rows, replaced, rejected,
+    rejected_count}."""
     requested_units(us_offered=False)
     pour = _pour_or_404(pour_id)
     if pour["archived"]:
@@ -393,12 +400,15 @@ def add_readings(pour_id: str) -> Response:
     except OverflowError:  # a pour stored before placed_at was bounded
         earliest = datetime.min.replace(tzinfo=UTC)
     latest = datetime.now(UTC) + LATEST_AFTER_NOW
+    replace = _replace_flag()
     good: list[tuple[datetime, str, float]] = []
+    good_rows: list[int] = []
     rejected: list[dict[str, Any]] = []
     for i, row in enumerate(rows):
         reading, problems = _check_row(row, sensors, earliest, latest, from_csv)
         if reading is not None:
             good.append(reading)
+            good_rows.append(i)
         rejected += [{"row": i, "field": f, "message": m} for f, m in problems]
     if not good:
         errors = [
@@ -410,9 +420,37 @@ def add_readings(pour_id: str) -> Response:
         if unknown:
             detail += f"; the pour's sensors are {_sensor_list(sensors)}"
         return problem(422, "Invalid readings", detail, errors)
-    accepted, duplicates = store.add_readings(store.get_db(), pour_id, good, pour["placed_at"])
+    done = store.add_readings(store.get_db(), pour_id, good, pour["placed_at"], replace)
+    conflicts = [
+        {
+            "row": good_rows[index],
+            "time": store.iso_utc(good[index][0]),
+            "sensor": good[index][1],
+            "temperature_c": good[index][2],
+            "stored_temperature_c": stored,
+        }
+        for index, stored in done.conflicts[:MAX_CONFLICT_ROWS]
+    ]
     listed, count = capped(rejected)
-    return jsonify(accepted=accepted, duplicates=duplicates, rejected=listed, rejected_count=count)
+    return jsonify(
+        accepted=done.accepted,
+        duplicates=done.duplicates,
+        conflicts=len(done.conflicts),
+        conflict_rows=conflicts,
+        replaced=done.replaced,
+        rejected=listed,
+        rejected_count=count,
+    )
+
+
+def _replace_flag() -> bool:
+    """``?replace=true``: overwrite stored readings that the upload contradicts."""
+    value = request.args.get("replace", "false").lower()
+    if value not in ("true", "false"):
+        raise RefusedError(
+            _invalid("Invalid query", [{"field": "replace", "message": "true or false"}])
+        )
+    return value == "true"
 
 
 def _window_bound(name: str) -> datetime | None:
