@@ -15,7 +15,13 @@ import numpy as np
 from model.grid import cell_count
 from model.results import Summary
 from model.scenario import Scenario
-from model.solver import ConvergenceError, ThermalSolver, forecast, forecast_batch
+from model.solver import (
+    ConvergenceError,
+    DeadlineExceededError,
+    ThermalSolver,
+    forecast,
+    forecast_batch,
+)
 from model.uncertainty import (
     Spreads,
     band_sampling,
@@ -143,6 +149,8 @@ def check_budget(
     cost = cells * steps * runs
     seconds = estimated_seconds(scenario) * runs
     allowed_s = None if deadline is None else BUDGET_SHARE * (deadline - time.monotonic())
+    if allowed_s is not None and allowed_s <= 0:
+        raise DeadlineExceededError("the wall-clock cap was reached before the forecast started")
     if cost <= max_cell_steps and (allowed_s is None or seconds <= allowed_s):
         return
     res = scenario.settings
@@ -156,7 +164,10 @@ def check_budget(
         advice += ", or ask for fewer runs"
     limit = f"the budget of {max_cell_steps:.3g} cell-steps"
     if allowed_s is not None:
-        limit += f" and {allowed_s:.0f} s of estimated time (POURHEAT_FORECAST_TIMEOUT_S)"
+        limit += (
+            f" and {allowed_s:.1f} s of estimated time left before the wall-clock cap "
+            "(POURHEAT_FORECAST_TIMEOUT_S; for jobs POURHEAT_JOB_TIMEOUT_S)"
+        )
     _refuse(
         field,
         f"the grid would have {cells} cells and about {steps} steps{runs_text} ({cost:.3g} "
