@@ -27,6 +27,8 @@ MAX_HORIZON_H = 2000.0
 ``duration_h`` a scenario may ask for (service/schemas.py). Readings later than this are kept
 and listed, but the calibration leaves them out (``calibration.readings_after_horizon``), so a
 pour placed long ago cannot make a status request forecast years."""
+REMOVAL_SEARCH_RUNS = 14
+"""Forecasts the earliest-removal search may take (service/planning.py, PLAN_EVALUATIONS)."""
 CURRENT_WINDOW_H = 2.0
 """Readings this close to the latest one count as "current" in the status [h]."""
 STALE_READINGS_H = 2.0
@@ -70,9 +72,18 @@ def pour_forecast(
     )
     if horizon_h > scenario.duration_h:
         scenario = replace(scenario, duration_h=horizon_h)
-    check_budget(
-        scenario, max_cell_steps, CALIBRATION_RUNS[scenario.element.shape], deadline=deadline
-    )
+    # The calibration's forecasts run only to the latest reading; then the forecast itself and,
+    # with top insulation, the removal search run over the whole horizon.
+    calibrated_h = float(np.ceil(hours.max() + 1e-9)) if hours.size else 0.0
+    if calibrated_h > 0:
+        check_budget(
+            replace(scenario, duration_h=max(calibrated_h, 1.0)),
+            max_cell_steps,
+            CALIBRATION_RUNS[scenario.element.shape],
+            deadline=deadline,
+        )
+    searches = REMOVAL_SEARCH_RUNS if scenario.face("top").insulation_r_m2k_w > 0 else 0
+    check_budget(scenario, max_cell_steps, 1 + searches, deadline=deadline)
     concrete_readings = int(np.count_nonzero(sensors != AIR_SENSOR))
     calibration: dict[str, Any]
     if concrete_readings == 0:
