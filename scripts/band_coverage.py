@@ -30,28 +30,8 @@ from model.solver import forecast_batch  # noqa: E402
 from model.uncertainty import Spreads, band_content_sd  # noqa: E402
 from service.forecasting import uncertainty_band, validated_scenario  # noqa: E402
 from service.schemas import UncertainScenarioIn  # noqa: E402
+from tests.conftest import CONTRACT_SCENARIO  # noqa: E402
 
-CONTRACT_SLAB = {
-    "element": {"shape": "slab", "thickness_m": 2.0},
-    "mix": {
-        "cement_kg_m3": 380,
-        "water_kg_m3": 160,
-        "hydration": {
-            "total_heat_j_kg": 460000,
-            "tau_h": 13.0,
-            "beta": 0.9,
-            "alpha_u": 0.75,
-            "activation_energy_j_mol": 41000,
-        },
-        "density_kg_m3": 2400,
-        "specific_heat_j_kgk": 1000,
-        "conductivity_w_mk": 2.5,
-    },
-    "placement": {"temperature_c": 20.0},
-    "ambient": {"air_temperature_c": 20.0, "wind_m_s": 2.0},
-    "faces": {"top": {"insulation_r_m2k_w": 0.5}, "bottom": {"adiabatic": True}},
-    "duration_h": 96,
-}
 KEYS = ("peak_temperature_c", "max_differential_c")
 
 
@@ -82,7 +62,8 @@ def main() -> None:
     parser.add_argument("--samples", type=int, default=32)
     parser.add_argument("--seed", type=int, default=20261202, help="seed of the truths")
     args = parser.parse_args()
-    scenario = validated_scenario(copy.deepcopy(CONTRACT_SLAB), UncertainScenarioIn)[1]
+    payload = {**copy.deepcopy(CONTRACT_SCENARIO), "duration_h": 96}  # the README figures
+    scenario = validated_scenario(payload, UncertainScenarioIn)[1]
     spreads = Spreads()
     truth = true_outcomes(scenario, spreads, args.truths, args.seed)
     bands = [uncertainty_band(scenario, spreads, args.samples, s) for s in range(args.bands)]
