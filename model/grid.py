@@ -17,10 +17,6 @@ VOID, CONCRETE, GROUND = 0, 1, 2
 """Cell materials."""
 
 _SAMPLES_PER_AXIS = 20001
-GROUND_GROWTH_RATIO = 2.0
-"""Ground cells grow this many times faster away from the element than concrete cells from a
-face (growth ``1 + 2 (growth - 1)``): the ground holds no source and no sensors, and the fine
-cells it needs are those next to the element."""
 
 
 def graded_edges(
@@ -105,7 +101,7 @@ def _ground_edges(length_m: float, resolution: Resolution) -> NDArray[np.float64
         resolution,
         2,
         resolution.max_cell_m * resolution.ground_cell_factor,
-        1.0 + GROUND_GROWTH_RATIO * (resolution.growth - 1.0),
+        1.0 + resolution.ground_growth_ratio * (resolution.growth - 1.0),
     )
 
 

@@ -19,12 +19,12 @@ cells within 0.3 m of each face are those of a large block (a pier or a mat): wi
 side edge; with the present 10 mm growing 20 % per cell, 0.066 C and 0.080 C.
 """
 
+from dataclasses import replace
+
 import numpy as np
 import pytest
 
 from model.ambient import Ambient
-from dataclasses import replace
-
 from model.scenario import BLOCK_RESOLUTION, Element, Face, Resolution, Scenario, Sensor
 from model.solver import forecast
 from tests.reference import mol_block
