@@ -26,6 +26,7 @@ def graded_edges(
     resolution: Resolution,
     min_cells: int = 4,
     max_cell_m: float | None = None,
+    growth: float | None = None,
 ) -> NDArray[np.float64]:
     """Cell edges from 0 to ``length_m``, small at the fine ends and growing inward [m].
 
@@ -33,8 +34,10 @@ def graded_edges(
     ``min(max_cell, surface_cell + (growth - 1) d)``, the continuous form of a geometric
     progression; edges are placed so each cell spans one unit of the integral of 1/size.
     ``max_cell`` is ``max_cell_m`` if given, else the smaller of the resolution's largest cell
-    and ``length_m / resolution.min_cells_across``.
+    and ``length_m / resolution.min_cells_across``; ``growth`` is the resolution's unless given.
     """
+    if growth is None:
+        growth = resolution.growth
     if max_cell_m is None:
         max_cell_m = min(resolution.max_cell_m, length_m / resolution.min_cells_across)
     x = np.linspace(0.0, length_m, _SAMPLES_PER_AXIS)
@@ -43,7 +46,7 @@ def graded_edges(
         distance = np.minimum(distance, x)
     if fine_high:
         distance = np.minimum(distance, length_m - x)
-    size = np.minimum(max_cell_m, resolution.surface_cell_m + (resolution.growth - 1.0) * distance)
+    size = np.minimum(max_cell_m, resolution.surface_cell_m + (growth - 1.0) * distance)
     density = 1.0 / size
     cumulative = np.concatenate([[0.0], np.cumsum(0.5 * (density[1:] + density[:-1]) * np.diff(x))])
     n_cells = max(min_cells, int(np.ceil(cumulative[-1] - 1e-9)))
@@ -92,7 +95,13 @@ class Domain:
 def _ground_edges(length_m: float, resolution: Resolution) -> NDArray[np.float64]:
     """Ground cells, fine next to the element (at 0) and coarser away from it [m]."""
     return graded_edges(
-        length_m, True, False, resolution, 2, resolution.max_cell_m * resolution.ground_cell_factor
+        length_m,
+        True,
+        False,
+        resolution,
+        2,
+        resolution.max_cell_m * resolution.ground_cell_factor,
+        1.0 + resolution.ground_growth_ratio * (resolution.growth - 1.0),
     )
 
 

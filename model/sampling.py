@@ -177,23 +177,42 @@ def build_sampler(
     for sensor in scenario.sensors:
         sensor_rows[sensor.id] = len(points)
         points.append(sensor_point_m(sensor, scenario, domain, bounds))
-
-    rows, cols, vals = [], [], []
     shape = domain.shape
-    for row, point in enumerate(points):
-        per_axis = []
-        for axis in range(3):
-            start = domain.concrete[axis][0]
-            weights = axis_weights(point[axis], centres[axis], *adiabatic_ends[axis])
-            per_axis.append([(start + i, w) for i, w in weights])
-        for ix, wx in per_axis[0]:
-            for iy, wy in per_axis[1]:
-                for iz, wz in per_axis[2]:
-                    rows.append(row)
-                    cols.append(solid_numbering[np.ravel_multi_index((ix, iy, iz), shape)])
-                    vals.append(wx * wy * wz)
+
+    coords = np.asarray(points, dtype=float).reshape(-1, 3)
+    # Per axis, the weights of each distinct coordinate (a layer's points share few of them),
+    # padded to two (index, weight) pairs: shape (n_points, 2) each.
+    index_pairs, weight_pairs = [], []
+    for axis in range(3):
+        start = domain.concrete[axis][0]
+        values, inverse = np.unique(coords[:, axis], return_inverse=True)
+        idx = np.zeros((values.size, 2), dtype=np.int64)
+        wts = np.zeros((values.size, 2))
+        for k, value in enumerate(values):
+            weights = axis_weights(float(value), centres[axis], *adiabatic_ends[axis])
+            for j, (i, w) in enumerate(weights):
+                idx[k, j], wts[k, j] = start + i, w
+        index_pairs.append(idx[inverse.ravel()])
+        weight_pairs.append(wts[inverse.ravel()])
+    ix, iy, iz = (
+        index_pairs[0][:, :, None, None],
+        index_pairs[1][:, None, :, None],
+        index_pairs[2][:, None, None, :],
+    )
+    flat = (ix * shape[1] + iy) * shape[2] + iz
+    vals = (
+        weight_pairs[0][:, :, None, None]
+        * weight_pairs[1][:, None, :, None]
+        * weight_pairs[2][:, None, None, :]
+    )
+    rows = np.broadcast_to(np.arange(coords.shape[0])[:, None, None, None], vals.shape)
+    cols = solid_numbering[flat]
+    keep = vals.ravel() != 0.0
     n_solid = int(solid_numbering.max()) + 1
-    matrix = sp.csr_array((vals, (rows, cols)), shape=(len(points), n_solid))
+    matrix = sp.csr_array(
+        (vals.ravel()[keep], (rows.ravel()[keep], cols.ravel()[keep])),
+        shape=(len(points), n_solid),
+    )
     return Sampler(matrix=matrix, face_rows=face_rows, sensor_rows=sensor_rows)
 
 

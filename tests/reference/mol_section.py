@@ -308,6 +308,7 @@ def footing_on_ground(
     ground_bottom_c: float = GROUND_BOTTOM_C,
     air_mean_c: float = AIR_MEAN_C,
     air_amplitude_c: float = AIR_AMPLITUDE_C,
+    points_xz_m: dict[str, tuple[float, float]] | None = None,
 ) -> dict[str, Any]:
     """Temperature history of the footing section by the method of lines.
 
@@ -351,6 +352,9 @@ def footing_on_ground(
         Daily mean air temperature [degC].
     air_amplitude_c : float, optional
         Half the daily air temperature range [K].
+    points_xz_m : dict, optional
+        Further points (x from the symmetry plane, z up from the base of the footing [m]) read
+        like the sensors, returned under ``"points_c"``.
 
     Returns
     -------
@@ -469,6 +473,7 @@ def footing_on_ground(
     top = _sensor(concrete, grid, *TOP_SENSOR_XZ_M)
     side = _sensor(concrete, grid, *SIDE_SENSOR_XZ_M)
     differential = core - side
+    points = {name: _sensor(concrete, grid, x, z) for name, (x, z) in (points_xz_m or {}).items()}
 
     i_peak = int(np.argmax(core))
     j_peak = int(np.argmax(concrete[i_peak].reshape(-1)))
@@ -484,6 +489,7 @@ def footing_on_ground(
         "core_c": core,
         "top_c": top,
         "side_c": side,
+        "points_c": points,
         "differential_c": differential,
         "peak_c": float(core[i_peak]),
         "peak_time_h": float(times[i_peak]),
