@@ -23,7 +23,7 @@ from pydantic import ValidationError
 
 from service.convert import forecast_csv
 from service.errors import InvalidScenarioError, validation_errors
-from service.forecasting import DEFAULT_MAX_CELL_STEPS, run_forecast
+from service.forecasting import COMMAND_LINE_MAX_CELL_STEPS, run_forecast
 from service.limits import repeated_keys
 from service.progress_display import ProgressDisplay
 
@@ -69,14 +69,15 @@ def read_scenario(source: str, stdin: TextIO | None = None) -> Any:
 
 
 def max_cell_steps_setting() -> float:
-    """The compute budget: POURHEAT_MAX_CELL_STEPS as for the service, else the default."""
+    """The compute budget: POURHEAT_MAX_CELL_STEPS as for the service, else the command line's
+    default (larger than the service's: no request cap applies here)."""
     value = os.environ.get("POURHEAT_MAX_CELL_STEPS")
     if not value:
-        return DEFAULT_MAX_CELL_STEPS
+        return COMMAND_LINE_MAX_CELL_STEPS
     try:
         return float(value)
     except ValueError:
-        return DEFAULT_MAX_CELL_STEPS
+        return COMMAND_LINE_MAX_CELL_STEPS
 
 
 def _value(record: dict[str, Any], stem: str, suffix: str) -> Any:

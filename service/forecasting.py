@@ -64,6 +64,10 @@ DEFAULT_MAX_CELL_STEPS = float(
 """Largest grid cells x estimated time steps one forecast may cost by default, a setting
 (POURHEAT_MAX_CELL_STEPS): DEFAULT_FORECAST_TIMEOUT_S x BUDGET_SHARE / SECONDS_PER_CELL_STEP
 to two digits, so that a 2D or 3D forecast at this cost takes about 24 s of one core here."""
+COMMAND_LINE_MAX_CELL_STEPS = 2.0e8
+"""Default budget of ``pourheat forecast`` and ``pourheat plan`` [cell-steps], where no request
+cap applies: about five minutes of one core here at SECONDS_PER_CELL_STEP (POURHEAT_MAX_CELL_STEPS
+overrides it, as for the service)."""
 HYDRATION_STEPS = 250
 """Typical number of extra steps the solver takes to resolve the hydration peak."""
 MAX_OUTPUT_VALUES = 2_000_000
@@ -162,6 +166,11 @@ def check_budget(
     )
     if runs > 1:
         advice += ", or ask for fewer runs"
+    if allowed_s is not None:
+        advice += (
+            ", or send it as a job (header Prefer: respond-async), which has its own budget and "
+            "cap (POURHEAT_JOB_MAX_CELL_STEPS, POURHEAT_JOB_TIMEOUT_S)"
+        )
     limit = f"the budget of {max_cell_steps:.3g} cell-steps"
     if allowed_s is not None:
         limit += (

@@ -34,16 +34,18 @@ def test_cell_count_is_the_solvers(contract_scenario):
     assert cell_count(scenario) == ThermalSolver(scenario).network.size
 
 
-def test_pier_to_650_h_is_refused_within_the_default_timeout():
-    """The pier run to 650 h took 35 s when the budget accepted it; the budget now refuses it
-    for a request capped at the default 40 s, and still accepts the example's own 168 h."""
-    long = {**copy.deepcopy(PIER), "duration_h": 650}
-    _, scenario, _ = validated_scenario(long)
+def test_pier_is_refused_within_the_default_timeout_and_accepted_as_a_job():
+    """The pier run to 650 h took 35 s when the budget accepted it. With the graded 3D grid
+    the example's own 240 h takes 34 s of one idle core here (scripts/measure_budget.py,
+    2026-12-02), too close to the default 40 s request cap: the budget refuses it for a request
+    (pointing to jobs) and accepts it, and the 650 h run, within a job's 30 min cap."""
     deadline = time.monotonic() + DEFAULT_FORECAST_TIMEOUT_S
-    with pytest.raises(ValueError, match="coarsen"):
-        check_budget(scenario, 1e12, deadline=deadline)
-    _, scenario, _ = validated_scenario(PIER)
-    check_budget(scenario, 1e12, deadline=deadline)
+    job_deadline = time.monotonic() + 1800.0  # POURHEAT_JOB_TIMEOUT_S default
+    for hours in (240, 650):
+        _, scenario, _ = validated_scenario({**copy.deepcopy(PIER), "duration_h": hours})
+        with pytest.raises(ValueError, match="respond-async"):
+            check_budget(scenario, 1e12, deadline=deadline)
+        check_budget(scenario, 1e12, deadline=job_deadline)
 
 
 def test_oversize_output_is_refused_at_once_with_advice_that_works(client, contract_scenario):

@@ -165,7 +165,9 @@ def create_pour() -> Response:
     if "scenario" in payload:
         try:
             _, model_scenario, _ = validated_scenario(scenario)
-            check_budget(model_scenario, current_app.config["MAX_CELL_STEPS"])
+            # A stored pour is forecast by jobs and `pourheat refresh` as well as by requests,
+            # so it is held to the jobs' budget; a request too heavy for its own cap says so.
+            check_budget(model_scenario, current_app.config["JOB_MAX_CELL_STEPS"])
         except ValidationError as error:
             errors += _in_scenario(validation_errors(error))
         except InvalidScenarioError as error:
