@@ -123,19 +123,25 @@ def gunicorn_server(
     )  # fmt: skip
     base = f"http://127.0.0.1:{port}"
     try:
-        deadline = time.monotonic() + 30
-        while True:
-            assert server.poll() is None, log_path.read_text()
-            try:
-                if requests.get(f"{base}/healthz", timeout=2).status_code == 200:
-                    break
-            except requests.RequestException:
-                pass
-            assert time.monotonic() < deadline, "gunicorn did not start"
-            time.sleep(0.1)
+        wait_until_healthy(server, base, log_path)
         yield base, server
     finally:
         if server.poll() is None:
             os.killpg(server.pid, 9)
             server.wait(timeout=10)
         log.close()
+
+
+def wait_until_healthy(process, base: str, log_path, timeout_s: float = 30.0) -> None:
+    """Wait until a gunicorn started by a test answers ``/healthz`` (fails, with its log, if the
+    process exits or ``timeout_s`` passes)."""
+    deadline = time.monotonic() + timeout_s
+    while True:
+        assert process.poll() is None, Path(log_path).read_text()
+        try:
+            if requests.get(f"{base}/healthz", timeout=2).status_code == 200:
+                return
+        except requests.RequestException:
+            pass
+        assert time.monotonic() < deadline, "gunicorn did not start"
+        time.sleep(0.1)

@@ -21,6 +21,7 @@ import requests
 from service import store
 from service.app import create_app
 from tests.conftest import CONTRACT_SCENARIO
+from tests.servers import wait_until_healthy
 
 REPO = Path(__file__).resolve().parents[1]
 SENSORS = [{"id": "S1", "depth_m": 0.05}, {"id": "S2", "depth_m": 1.0}]
@@ -385,16 +386,7 @@ def test_acknowledged_readings_survive_sigkill(tmp_path, database_url):
     acknowledged: list[tuple[str, str]] = []
     stop = threading.Event()
     try:
-        deadline = time.monotonic() + 20
-        while True:
-            assert server.poll() is None, (tmp_path / "gunicorn.log").read_text()
-            try:
-                if requests.get(f"{base}/healthz", timeout=2).status_code == 200:
-                    break
-            except requests.RequestException:
-                pass
-            assert time.monotonic() < deadline, "gunicorn did not start"
-            time.sleep(0.1)
+        wait_until_healthy(server, base, tmp_path / "gunicorn.log", timeout_s=20)
         payload = {"name": "Kill test", "placed_at": _z(PLACED_AT), "scenario": _scenario()}
         created = requests.post(f"{base}/v1/pours", json=payload, timeout=10)
         assert created.status_code == 201, created.text

@@ -13,7 +13,6 @@ import os
 import socket
 import subprocess
 import sys
-import time
 from collections.abc import Iterator
 from pathlib import Path
 from urllib.parse import urlencode
@@ -24,6 +23,7 @@ import pytest
 import requests
 
 from tests.conftest import require_program
+from tests.servers import wait_until_healthy
 
 REPO = Path(__file__).resolve().parents[1]
 QUERY = {
@@ -108,16 +108,8 @@ def server(tmp_path: Path) -> Iterator[str]:
         stdout=log, stderr=log, start_new_session=True,
     )  # fmt: skip
     try:
-        deadline = time.monotonic() + 90  # importing numpy and scipy on a busy machine
-        while True:
-            assert process.poll() is None, (tmp_path / "gunicorn.log").read_text()
-            try:
-                if requests.get(f"{base}/healthz", timeout=2).status_code == 200:
-                    break
-            except requests.RequestException:
-                pass
-            assert time.monotonic() < deadline, "gunicorn did not start"
-            time.sleep(0.1)
+        # up to 90 s: importing numpy and scipy on a busy machine
+        wait_until_healthy(process, base, tmp_path / "gunicorn.log", timeout_s=90)
         yield base
     finally:
         process.terminate()
