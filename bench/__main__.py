@@ -473,6 +473,50 @@ def case_3d(target_s: float = 10.0) -> dict[str, Any]:
     }
 
 
+PIER_EXAMPLE = Path(__file__).resolve().parents[1] / "examples" / "pier-footing-on-rock.json"
+
+
+def pier_example(refinement: float = 1.0) -> Scenario:
+    """The README's pier example (examples/), on its default grid refined by ``refinement``."""
+    from service.convert import scenario_from
+    from service.schemas import ScenarioIn
+
+    scenario, _ = scenario_from(ScenarioIn.model_validate_json(PIER_EXAMPLE.read_text()))
+    if refinement == 1.0:
+        return scenario
+    return replace(scenario, resolution=scenario.settings.refined(refinement))
+
+
+def case_pier(refinement: float = 1.5) -> dict[str, Any]:
+    """The pier example against a run with cells and steps ``refinement`` times finer (about
+    3.4 times the cells; its converged run for the accuracy column)."""
+    truth = forecast(pier_example(refinement))
+    result, seconds, _ = timed(lambda: forecast(pier_example()), 1, memory=False)
+    s, c = result.summary, truth.summary
+    err = max(
+        abs(s.peak_temperature_c - c.peak_temperature_c),
+        abs(s.max_differential_c - c.max_differential_c),
+        float(np.max(np.abs(result.core_c - truth.core_c))),
+        float(np.max(np.abs(result.surface_c - truth.surface_c))),
+        *(
+            float(np.max(np.abs(np.asarray(v) - np.asarray(truth.sensors_c[k]))))
+            for k, v in result.sensors_c.items()
+        ),
+    )
+    return {
+        "case": f"3D pier example, 240 h ({result.cells} cells, {result.steps} steps, "
+        f"{1e6 * seconds / (result.cells * result.steps):.2f} us per cell-step)",
+        "reference": f"target only; error against a run {refinement:g}x finer in space and time",
+        "time_s": seconds,
+        "reference_s": None,
+        "memory_mb": math.nan,
+        "error_c": err,
+        "reference_error_c": None,
+        "target": "about 1 s (issue 17: 1/6 of 6.9 s)",
+        "met": seconds < 6.9 / 6,
+    }
+
+
 def case_scaling() -> list[tuple[str, int, int, float]]:
     """Time against cells x steps for 1D, 2D and 3D at four grid sizes each (same time-step
     settings; the grids refined in space only)."""
@@ -589,9 +633,10 @@ def markdown(
         if r.get("reference_error_c") is not None:
             errors += f" / {r['reference_error_c']:.3f}"
         met = "-" if r["met"] is None else ("yes" if r["met"] else "no")
+        memory = "-" if math.isnan(r["memory_mb"]) else f"{r['memory_mb']:.0f}"
         lines.append(
             f"| {r['case']} | {r['time_s']:.3f} | {r['reference']} | {ref_s} | {ratio} "
-            f"| {errors} | {r['memory_mb']:.0f} | {r['target']} | {met} |"
+            f"| {errors} | {memory} | {r['target']} | {met} |"
         )
     if http:
         lines += [
@@ -615,7 +660,7 @@ def markdown(
 
 def main(argv: list[str] | None = None) -> None:
     parser = argparse.ArgumentParser(prog="python -m bench")
-    parser.add_argument("cases", nargs="*", default=["1d", "2d", "3d", "scaling", "http"])
+    parser.add_argument("cases", nargs="*", default=["1d", "2d", "3d", "pier", "scaling", "http"])
     parser.add_argument("--no-readme", action="store_true", help="do not refresh README.md")
     args = parser.parse_args(argv)
     rows: list[dict[str, Any]] = []
@@ -626,6 +671,8 @@ def main(argv: list[str] | None = None) -> None:
         rows.extend(case_2d())
     if "3d" in args.cases:
         rows.append(case_3d())
+    if "pier" in args.cases:
+        rows.append(case_pier())
     if "scaling" in args.cases:
         scaling = case_scaling()
     if "http" in args.cases:

@@ -177,9 +177,11 @@ class SymmetricPattern:
         order = sp.csr_array((np.arange(rows.size, dtype=float) + 1.0, (rows, cols)), shape=(n, n))
         order.sort_indices()
         self._position = order.data.astype(np.int64) - 1
+        self._diagonal_position = np.flatnonzero(self._position >= 2 * links)[
+            np.argsort(self._position[self._position >= 2 * links])
+        ]
         self._indices, self._indptr = order.indices, order.indptr
-        self._links, self._shape = links, (n, n)
-        self._p, self._q = network.link_p, network.link_q
+        self._shape = (n, n)
         self.tridiagonal = bool(
             np.array_equal(network.link_p, np.arange(n - 1))
             and np.array_equal(network.link_q, network.link_p + 1)
@@ -187,24 +189,18 @@ class SymmetricPattern:
         """Whether the links are exactly those of each cell to the next (slabs, and batches of
         slabs): the link values are then the first off-diagonal and tridiagonal solves apply."""
 
-    def product(
+    def tridiagonal_product(
         self,
         link_values: NDArray[np.float64],
         diagonal: NDArray[np.float64],
         x: NDArray[np.float64],
     ) -> NDArray[np.float64]:
-        """``matrix(link_values, diagonal) @ x`` without building the matrix."""
-        if self.tridiagonal:
-            y = diagonal * x
-            y[:-1] += link_values * x[1:]
-            y[1:] += link_values * x[:-1]
-            return y
-        n = self._shape[0]
-        return (
-            diagonal * x
-            + np.bincount(self._p, link_values * x[self._q], n)
-            + np.bincount(self._q, link_values * x[self._p], n)
-        )
+        """``matrix(link_values, diagonal) @ x`` for a tridiagonal pattern, without building
+        the matrix (2D/3D grids use the sparse matrix: see :meth:`shifted`)."""
+        y = diagonal * x
+        y[:-1] += link_values * x[1:]
+        y[1:] += link_values * x[:-1]
+        return y
 
     def matrix(
         self, link_values: NDArray[np.float64], diagonal: NDArray[np.float64]
@@ -215,6 +211,16 @@ class SymmetricPattern:
         return sp.csr_array(
             (values[self._position], self._indices, self._indptr), shape=self._shape
         )
+
+
+    def shifted(
+        self, link_matrix: sp.csr_array, scale: float, diagonal: NDArray[np.float64]
+    ) -> sp.csr_array:
+        """``scale * link_matrix`` with ``diagonal`` on its diagonal, for a ``link_matrix`` made
+        by :meth:`matrix` (same pattern): one product and a scatter, without gathering."""
+        values = scale * link_matrix.data
+        values[self._diagonal_position] = diagonal
+        return sp.csr_array((values, self._indices, self._indptr), shape=self._shape)
 
 
 def boundary_conductance_w_k(
