@@ -10,6 +10,7 @@ against its reference. Timings are of this machine (2 cores); compare ratios, no
 import argparse
 import math
 import resource
+import signal
 import statistics
 import subprocess
 import sys
@@ -602,8 +603,12 @@ def case_http(seconds: float = 30.0, clients: int = 4) -> dict[str, Any]:
         for t in threads:
             t.join()
     finally:
-        os.killpg(server.pid, 15)
-        server.wait(timeout=30)
+        os.killpg(server.pid, signal.SIGINT)  # quick shutdown: the run is over
+        try:
+            server.wait(timeout=30)
+        except subprocess.TimeoutExpired:
+            os.killpg(server.pid, signal.SIGKILL)
+            server.wait()
     p95 = float(np.percentile(latencies, 95))
     return {
         "case": f"HTTP 1D example, {clients} clients, {seconds:g} s",
