@@ -212,7 +212,6 @@ class SymmetricPattern:
             (values[self._position], self._indices, self._indptr), shape=self._shape
         )
 
-
     def shifted(
         self, link_matrix: sp.csr_array, scale: float, diagonal: NDArray[np.float64]
     ) -> sp.csr_array:
