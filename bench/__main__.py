@@ -433,6 +433,23 @@ def case_2d() -> list[dict[str, Any]]:
     return rows
 
 
+def forecast_error_c(result: Any, truth: Any) -> float:
+    """Largest difference of two forecasts of one scenario [C] over the peak, the maximum
+    differential and every reported value of the hottest point, the near-surface point and
+    the sensors."""
+    s, c = result.summary, truth.summary
+    return max(
+        abs(s.peak_temperature_c - c.peak_temperature_c),
+        abs(s.max_differential_c - c.max_differential_c),
+        float(np.max(np.abs(result.core_c - truth.core_c))),
+        float(np.max(np.abs(result.surface_c - truth.surface_c))),
+        *(
+            float(np.max(np.abs(np.asarray(v) - np.asarray(truth.sensors_c[k]))))
+            for k, v in result.sensors_c.items()
+        ),
+    )
+
+
 def case_3d(target_s: float = 10.0) -> dict[str, Any]:
     """3D block against a run on a grid with about 9 times more cells."""
     truth = forecast(block_3d(Resolution(surface_cell_m=0.01, growth=1.2, max_cell_m=0.125)))
@@ -453,13 +470,7 @@ def case_3d(target_s: float = 10.0) -> dict[str, Any]:
         )
         / 1024
     )
-    s, c = result.summary, truth.summary
-    err = max(
-        abs(s.peak_temperature_c - c.peak_temperature_c),
-        abs(s.max_differential_c - c.max_differential_c),
-        float(np.max(np.abs(result.core_c - truth.core_c))),
-        float(np.max(np.abs(result.surface_c - truth.surface_c))),
-    )
+    err = forecast_error_c(result, truth)
     return {
         "case": f"3D 12 x 8 x 3 m block, quarter, 336 h ({result.cells} cells, {result.steps} "
         "steps)",
@@ -493,17 +504,7 @@ def case_pier(refinement: float = 1.5) -> dict[str, Any]:
     3.4 times the cells; its converged run for the accuracy column)."""
     truth = forecast(pier_example(refinement))
     result, seconds, _ = timed(lambda: forecast(pier_example()), 1, memory=False)
-    s, c = result.summary, truth.summary
-    err = max(
-        abs(s.peak_temperature_c - c.peak_temperature_c),
-        abs(s.max_differential_c - c.max_differential_c),
-        float(np.max(np.abs(result.core_c - truth.core_c))),
-        float(np.max(np.abs(result.surface_c - truth.surface_c))),
-        *(
-            float(np.max(np.abs(np.asarray(v) - np.asarray(truth.sensors_c[k]))))
-            for k, v in result.sensors_c.items()
-        ),
-    )
+    err = forecast_error_c(result, truth)
     return {
         "case": f"3D pier example, 240 h ({result.cells} cells, {result.steps} steps, "
         f"{1e6 * seconds / (result.cells * result.steps):.2f} us per cell-step)",
