@@ -44,7 +44,10 @@ sparse LU). Set by scripts/measure_budget.py on this project's 2-core machine wi
 thread, 2026-12-02, while other jobs kept it busy: the 3D pier example took 1.28-1.48 us per
 cell-step taken over four runs of 240 h and 336 h, and 1.64 us in one run to 650 h at the
 busiest time. Small 2D grids are covered with STEP_OVERHEAD_S (the wall example, 901 cells:
-0.62 s CPU against 0.84 s estimated). Re-measure when the solver changes."""
+0.62 s CPU against 0.84 s estimated). Re-measure when the solver changes. Re-measured on an
+idle machine on 2026-12-03, after cheaper 3D steps: the pier 0.69 us per cell-step taken (11.7 s
+against 38.2 s estimated); kept, because the 2D rows keep only 15-25 % of headroom at a lower
+figure and a refusal at once beats a 503 after a long wait (README, "Compute budget")."""
 STEP_OVERHEAD_S = 5.0e-4
 """CPU time of one time step besides its cells [s]: the Python work of a step, which dominates
 1D (the 1D mat example: 0.48 ms per step taken over 2000 h, rounded up; same run)."""

@@ -36,8 +36,8 @@ def test_cell_count_is_the_solvers(contract_scenario):
 
 def test_pier_is_refused_within_the_default_timeout_and_accepted_as_a_job():
     """The pier run to 650 h took 35 s when the budget accepted it. With the graded 3D grid
-    the example's own 240 h takes 24 s of one idle core here and is estimated at 38 s
-    (scripts/measure_budget.py, 2026-12-02), more than the 60 % of the default 40 s request cap
+    the example's own 240 h takes 12 s of one idle core here and is estimated at 38 s
+    (scripts/measure_budget.py, 2026-12-03), more than the 60 % of the default 40 s request cap
     the budget allows: refused for a request (pointing to jobs), accepted, like the 650 h run,
     within a job's 30 min cap."""
     deadline = time.monotonic() + DEFAULT_FORECAST_TIMEOUT_S
