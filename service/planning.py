@@ -73,6 +73,7 @@ def _solve_one(
         "differential_margin_c": rounding.temperature(result.differential_margin_c),
         "summary": _summary_json(result.summary),
         "forecasts_run": result.forecasts_run,
+        "coarse_forecasts_run": result.coarse_forecasts_run,
         "note": result.note,
         "unsettled": result.unsettled,
     }

@@ -309,7 +309,18 @@ class ControlOut(Out):
         "Differential limit minus maximum at the value [C]", 8.4, default=None
     )
     summary: PlanSummaryOut | None = F("Forecast summary at the value", default=None)
-    forecasts_run: int | None = F("Whole forecasts the search took", 7, default=None)
+    forecasts_run: int | None = F(
+        "Whole forecasts the search took, on the scenario's grid and on the coarse grid",
+        7,
+        default=None,
+    )
+    coarse_forecasts_run: int | None = F(
+        "How many of them ran on a grid twice as coarse in space and time, to locate the "
+        "answer before it is checked on the scenario's own grid (sections and blocks; 0 for "
+        "slabs)",
+        0,
+        default=None,
+    )
     note: str = F("Plain-language explanation", "most permissive value that meets the limits")
     unsettled: str | None = F(
         "Why a limit is not settled within the forecast at the value shown (it then counts as "

@@ -1,12 +1,23 @@
 """Planning searches, pre-cooling, comparisons and uncertainty bands."""
 
 import copy
+import math
 
 import pytest
 
 from model.ambient import Ambient
 from model.hydration import HydrationParameters
-from model.planning import SEARCHES, Limits, margins_c, solve_control, with_control
+from model.planning import (
+    SEARCHES,
+    Limits,
+    _from_hint,
+    _Hint,
+    _Margins,
+    _Outcome,
+    margins_c,
+    solve_control,
+    with_control,
+)
 from model.precooling import (
     Batch,
     fresh_concrete_temperature_c,
@@ -15,7 +26,7 @@ from model.precooling import (
 )
 from model.scenario import Face
 from model.solver import forecast
-from tests.scenarios import concrete, slab
+from tests.scenarios import concrete, footing_on_ground, slab
 
 LIMITS = Limits(70.0, 19.0)
 MAT = slab(
@@ -191,3 +202,51 @@ def test_uncertainty_band_is_seeded_and_ordered(client, contract_scenario):
         assert band[key]["p10"] <= band[key]["p50"] <= band[key]["p90"]
     assert band["peak_temperature_c"]["p10"] < first["peak_temperature_c"]
     assert first["peak_temperature_c"] < band["peak_temperature_c"]["p90"]
+
+
+SECTION = footing_on_ground(120.0)
+"""A 2D footing section: its plans search on a grid twice as coarse first."""
+
+
+def test_coarse_first_search_finds_the_full_search_answer_with_fewer_forecasts():
+    """The coarse grid only proposes: the value must meet on the section's own grid and a
+    quarter tolerance beyond must miss, as the search over the whole range guarantees, and
+    the two answers lie within that quarter tolerance of each other."""
+    limits = Limits(60.0, 100.0)  # the peak binds
+    control = "max_placement_temperature_c"
+    quick = solve_control(SECTION, control, limits)
+    full = solve_control(SECTION, control, limits, coarse_first=False)
+    assert quick.status == full.status == "found"
+    step = SEARCHES[control].tolerance / 4
+    assert quick.value == pytest.approx(full.value, abs=step + 1e-6)
+    assert quick.coarse_forecasts_run > 0 and full.coarse_forecasts_run == 0
+    fine_runs = quick.forecasts_run - quick.coarse_forecasts_run
+    assert fine_runs <= 4
+    assert fine_runs < full.forecasts_run
+    assert _meets(SECTION, control, quick.value, limits)
+    assert not _meets(SECTION, control, quick.value + step, limits)
+
+
+@pytest.mark.parametrize(
+    ("limits", "status"),
+    [(Limits(120.0, 100.0), "met_over_range"), (Limits(30.0, 10.0), "missed_over_range")],
+)
+def test_coarse_first_search_confirms_a_range_end_with_one_forecast(limits, status):
+    quick = solve_control(SECTION, "max_placement_temperature_c", limits)
+    assert quick.status == status
+    assert quick.forecasts_run - quick.coarse_forecasts_run == 1
+    assert 1 <= quick.coarse_forecasts_run <= 2
+
+
+def test_a_misleading_coarse_answer_falls_back_to_the_full_search():
+    """A coarse answer the scenario's own grid contradicts is not trusted: the search over the
+    whole range decides (shown by handing the fine stage wrong hints)."""
+    control = "max_placement_temperature_c"
+    search = SEARCHES[control]
+    margin = _Margins(MAT, control, LIMITS, forecast)
+    wrong_end = _Hint(_Outcome("met_over_range", search.high, ""), math.nan, 0)
+    assert _from_hint(margin, search, wrong_end, MAT.duration_h) is None
+    wrong_slope = _Hint(_Outcome("found", 20.0, ""), +1.0, 0)  # margin rising toward risk
+    assert _from_hint(margin, search, wrong_slope, MAT.duration_h) is None
+    far = _Hint(_Outcome("found", 30.0, ""), -0.01, 0)  # slope far too flat: lands off range
+    assert _from_hint(margin, search, far, MAT.duration_h) is None
