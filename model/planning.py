@@ -71,8 +71,6 @@ SEARCHES: dict[str, ControlSearch] = {
 REMOVAL_WATCH_H = SHOCK_WINDOW_H
 """A removal is only searched up to this long before the end of the forecast [h], so that the
 shock after it is inside the forecast."""
-COARSENING = 2.0
-"""The coarse search's cells and steps are this many times larger (``Resolution.refined``)."""
 UNSETTLED_MARGIN_C = -0.01
 """Margin given to a value whose limit verdict is "unsettled" [C]: below zero, so that it
 counts as not met, whatever the margin of its worst value within the forecast."""
@@ -303,10 +301,9 @@ def _coarse_hint(
     run: Callable[[Scenario], Forecast],
     search: ControlSearch,
 ) -> _Hint | None:
-    """The search run to one tolerance on a grid with cells and steps ``COARSENING`` times
-    larger, and the slope of its margin at the crossing; None if that grid fails."""
-    coarse = replace(scenario, resolution=scenario.settings.refined(1.0 / COARSENING))
-    margin = _Margins(coarse, control, limits, run)
+    """The search run to one tolerance on the coarse grid (``Scenario.coarsened``), and the
+    slope of its margin at the crossing; None if that grid fails."""
+    margin = _Margins(scenario.coarsened(), control, limits, run)
     try:
         outcome = _bracketed(margin, search, scenario.duration_h, to_edge=False)
     except ConvergenceError:
@@ -369,7 +366,7 @@ def solve_control(
         only the differential is searched and the peak is then checked (more insulation warms the
         core). With ``coarse_first`` (by default for sections and blocks, whose forecasts cost
     about a quarter and a tenth as much on the coarse grid; a slab's cost is mostly per step and
-    hardly falls) the search first runs on a grid ``COARSENING`` times coarser in
+    hardly falls) the search first runs on a grid ``model.scenario.COARSENING`` times coarser in
         space and time, and the answer on the scenario's own grid is then found from there in
         about four forecasts; whatever that does not settle is searched over the whole range as
         without it. Either way the value returned meets the limits on the scenario's own grid and

@@ -151,6 +151,7 @@ def _calibration_json(fit: Calibration) -> dict[str, Any]:
         "loss": LOSS,
         "loss_scale_c": F_SCALE_C,
         "forecasts_run": fit.forecasts,
+        "coarse_forecasts_run": fit.coarse_forecasts,
     }
 
 
