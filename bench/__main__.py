@@ -24,7 +24,9 @@ from typing import Any
 import numpy as np
 
 from model.ambient import Ambient
+from model.calibration import calibrate, with_parameters
 from model.hydration import HydrationParameters
+from model.planning import Limits, solve_control
 from model.properties import MixMasses
 from model.scenario import (
     BLOCK_RESOLUTION,
@@ -519,6 +521,78 @@ def case_pier(refinement: float = 1.5) -> dict[str, Any]:
     }
 
 
+PIER_PLAN_LIMITS = Limits(70.0, 50.0)
+"""Limits of the pier plan: the differential limit raised so that the peak binds and the
+warmest placement temperature is found inside the range (demo setting, not a specification)."""
+
+
+def case_plan(target_s: float = 10.0) -> dict[str, Any]:
+    """The warmest placement temperature for the pier example: the search from a coarse grid
+    against the search over the whole range on the example's own grid (the reference); the
+    error column is how far each answer lies from the other's [C of placement temperature]."""
+    control = "max_placement_temperature_c"
+    scenario = pier_example()
+    quick, seconds, _ = timed(
+        lambda: solve_control(scenario, control, PIER_PLAN_LIMITS), 1, memory=False
+    )
+    full, ref_s, _ = timed(
+        lambda: solve_control(scenario, control, PIER_PLAN_LIMITS, coarse_first=False),
+        1,
+        memory=False,
+    )
+    gap = abs(quick.value - full.value)
+    fine = quick.forecasts_run - quick.coarse_forecasts_run
+    return {
+        "case": f"3D pier example, warmest placement temperature ({quick.status}, "
+        f"{quick.value:.2f} C; {fine} forecasts on its grid + {quick.coarse_forecasts_run} "
+        "on the coarse grid)",
+        "reference": f"the search over the whole range on its grid ({full.forecasts_run} "
+        f"forecasts, {full.value:.2f} C)",
+        "time_s": seconds,
+        "reference_s": ref_s,
+        "memory_mb": math.nan,
+        "error_c": gap,
+        "reference_error_c": None,
+        "target": f"under {target_s:g} s (issue 17)",
+        "met": seconds < target_s,
+    }
+
+
+def case_calibration(target_s: float = 10.0) -> dict[str, Any]:
+    """Calibration of the pier example to 48 h of hourly readings (0.2 C noise, 0.1 C
+    resolution) of a true pour with more and faster heat, a draughtier top and better forms
+    (the factors of tests/test_calibration.py): Jacobians on the coarse grid against Jacobians
+    on the example's own grid (the reference); the error column is each calibrated peak's
+    distance from the true pour's [C]."""
+    from tests.test_calibration import SIDE_TRUTH, _site_readings
+
+    plan = pier_example()
+    truth = forecast(with_parameters(plan, SIDE_TRUTH))
+    ids = tuple(s.id for s in plan.sensors)
+    readings = _site_readings(truth, ids, np.arange(1.0, 49.0), seed=3)
+    quick, seconds, _ = timed(lambda: calibrate(plan, *readings), 1, memory=False)
+    full, ref_s, _ = timed(
+        lambda: calibrate(plan, *readings, coarse_jacobian=False), 1, memory=False
+    )
+    peak = truth.summary.peak_temperature_c
+
+    def peak_error(fit: Any) -> float:
+        return abs(forecast(fit.scenario).summary.peak_temperature_c - peak)
+
+    return {
+        "case": f"3D pier example, calibration to 48 h of readings at 3 sensors ({quick.forecasts} "
+        f"forecasts, {quick.coarse_forecasts} of them on the coarse grid)",
+        "reference": f"Jacobians on its own grid ({full.forecasts} forecasts)",
+        "time_s": seconds,
+        "reference_s": ref_s,
+        "memory_mb": math.nan,
+        "error_c": peak_error(quick),
+        "reference_error_c": peak_error(full),
+        "target": f"under {target_s:g} s (issue 17)",
+        "met": seconds < target_s,
+    }
+
+
 def case_scaling() -> list[tuple[str, int, int, float]]:
     """Time against cells x steps for 1D, 2D and 3D at four grid sizes each (same time-step
     settings; the grids refined in space only)."""
@@ -666,7 +740,11 @@ def markdown(
 
 def main(argv: list[str] | None = None) -> None:
     parser = argparse.ArgumentParser(prog="python -m bench")
-    parser.add_argument("cases", nargs="*", default=["1d", "2d", "3d", "pier", "scaling", "http"])
+    parser.add_argument(
+        "cases",
+        nargs="*",
+        default=["1d", "2d", "3d", "pier", "plan", "calibration", "scaling", "http"],
+    )
     parser.add_argument("--no-readme", action="store_true", help="do not refresh README.md")
     args = parser.parse_args(argv)
     rows: list[dict[str, Any]] = []
@@ -679,6 +757,10 @@ def main(argv: list[str] | None = None) -> None:
         rows.append(case_3d())
     if "pier" in args.cases:
         rows.append(case_pier())
+    if "plan" in args.cases:
+        rows.append(case_plan())
+    if "calibration" in args.cases:
+        rows.append(case_calibration())
     if "scaling" in args.cases:
         scaling = case_scaling()
     if "http" in args.cases:
