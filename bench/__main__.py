@@ -593,6 +593,65 @@ def case_calibration(target_s: float = 10.0) -> dict[str, Any]:
     }
 
 
+LIFT_CELLS_M = (0.3, 0.2, 0.13, 0.09, 0.0607)
+"""Uniform cell sizes of the lift's scaling curve [m]: about 8e3, 3e4, 1e5, 3e5 and 1e6 cells
+in the quarter meshed."""
+
+
+def lift_3d(cell_m: float) -> Scenario:
+    """A 20 m x 15 m x 3 m lift on an adiabatic base (quarter symmetry), insulated top, formed
+    sides, 240 h, on uniform cells of ``cell_m``."""
+    return Scenario(
+        element=Element("block", 3.0, width_m=15.0, length_m=20.0),
+        concrete=CONCRETE,
+        ambient=Ambient(air_c=15.0),
+        faces={
+            "top": Face(insulation_r_m2k_w=0.5),
+            "bottom": Face(adiabatic=True),
+            **{n: Face(formwork_r_m2k_w=0.3) for n in ("left", "right", "front", "back")},
+        },
+        placement_c=20.0,
+        duration_h=240.0,
+        resolution=Resolution(
+            surface_cell_m=cell_m, growth=1.0, max_cell_m=cell_m, min_cells_across=1.0
+        ),
+    )
+
+
+def case_lift(target_s: float = 60.0, target_mb: float = 4000.0) -> tuple[list, dict[str, Any]]:
+    """The lift's scaling curve, each size forecast in a fresh process (wall time of the
+    forecast, peak resident size of the process), and the 1e6-cell row for the main table."""
+    root = Path(__file__).resolve().parents[1]
+    curve = []
+    for cell_m in LIFT_CELLS_M:
+        script = (
+            "import time; from bench.__main__ import lift_3d; from model.solver import forecast;"
+            f" s = time.perf_counter(); r = forecast(lift_3d({cell_m}));"
+            " t = time.perf_counter() - s; m = next(int(line.split()[1]) for line in"
+            " open('/proc/self/status') if line.startswith('VmHWM'));"
+            " print(r.cells, r.steps, t, m / 1024)"
+        )
+        out = subprocess.run(
+            [sys.executable, "-c", script], cwd=root, capture_output=True, text=True, check=True
+        ).stdout.split()
+        curve.append((int(out[0]), int(out[1]), float(out[2]), float(out[3])))
+    cells, steps, seconds, memory = curve[-1]
+    row = {
+        "case": f"3D 20 x 15 x 3 m lift, quarter on {LIFT_CELLS_M[-1]:g} m cells, 240 h "
+        f"({cells} cells, {steps} steps, {1e6 * seconds / (cells * steps):.2f} us per "
+        "cell-step)",
+        "reference": "target only; memory is the peak resident size of a process running it",
+        "time_s": seconds,
+        "reference_s": None,
+        "memory_mb": memory,
+        "error_c": None,
+        "reference_error_c": None,
+        "target": f"under {target_s:g} s, under {target_mb / 1000:g} GB (issue 17)",
+        "met": seconds < target_s and memory < target_mb,
+    }
+    return curve, row
+
+
 def case_scaling() -> list[tuple[str, int, int, float]]:
     """Time against cells x steps for 1D, 2D and 3D at four grid sizes each (same time-step
     settings; the grids refined in space only)."""
@@ -700,6 +759,7 @@ def markdown(
     rows: list[dict[str, Any]],
     scaling: list[tuple[str, int, int, float]] | None,
     http: dict[str, Any] | None,
+    lift: list[tuple[int, int, float, float]] | None = None,
 ) -> str:
     lines = [
         "| case | time [s] | reference | ref. time [s] | speed-up (ref. time / time) "
@@ -709,7 +769,7 @@ def markdown(
     for r in rows:
         ratio = f"{r['reference_s'] / r['time_s']:.2f}" if r["reference_s"] else "-"
         ref_s = f"{r['reference_s']:.3f}" if r["reference_s"] else "-"
-        errors = f"{r['error_c']:.3f}"
+        errors = "-" if r["error_c"] is None else f"{r['error_c']:.3f}"
         if r.get("reference_error_c") is not None:
             errors += f" / {r['reference_error_c']:.3f}"
         met = "-" if r["met"] is None else ("yes" if r["met"] else "no")
@@ -735,6 +795,17 @@ def markdown(
         lines += [
             f"| {g} | {c} | {s} | {t:.2f} | {1e6 * t / (c * s):.1f} |" for g, c, s, t in scaling
         ]
+    if lift:
+        lines += [
+            "",
+            "| 3D lift, uniform cells | cells | steps | time [s] | microseconds per cell-step "
+            "| peak memory [MB] |",
+            "| --- | --- | --- | --- | --- | --- |",
+        ]
+        lines += [
+            f"| {size:g} m | {c} | {s} | {t:.1f} | {1e6 * t / (c * s):.2f} | {m:.0f} |"
+            for size, (c, s, t, m) in zip(LIFT_CELLS_M, lift, strict=True)
+        ]
     return "\n".join(lines)
 
 
@@ -743,12 +814,12 @@ def main(argv: list[str] | None = None) -> None:
     parser.add_argument(
         "cases",
         nargs="*",
-        default=["1d", "2d", "3d", "pier", "plan", "calibration", "scaling", "http"],
+        default=["1d", "2d", "3d", "pier", "plan", "calibration", "lift", "scaling", "http"],
     )
     parser.add_argument("--no-readme", action="store_true", help="do not refresh README.md")
     args = parser.parse_args(argv)
     rows: list[dict[str, Any]] = []
-    scaling = http = None
+    scaling = http = lift = None
     if "1d" in args.cases:
         rows.extend(case_1d())
     if "2d" in args.cases:
@@ -761,11 +832,14 @@ def main(argv: list[str] | None = None) -> None:
         rows.append(case_plan())
     if "calibration" in args.cases:
         rows.append(case_calibration())
+    if "lift" in args.cases:
+        lift, lift_row = case_lift()
+        rows.append(lift_row)
     if "scaling" in args.cases:
         scaling = case_scaling()
     if "http" in args.cases:
         http = case_http()
-    table = markdown(rows, scaling, http)
+    table = markdown(rows, scaling, http, lift)
     print(table)
     print(
         f"peak resident memory of this process: "
