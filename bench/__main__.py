@@ -599,22 +599,13 @@ in the quarter meshed."""
 
 
 def lift_3d(cell_m: float) -> Scenario:
-    """A 20 m x 15 m x 3 m lift on an adiabatic base (quarter symmetry), insulated top, formed
-    sides, 240 h, on uniform cells of ``cell_m``."""
-    return Scenario(
+    """The block of :func:`block_3d` widened to a 20 m x 15 m x 3 m lift, 240 h, on uniform
+    cells of ``cell_m``."""
+    uniform = Resolution(surface_cell_m=cell_m, growth=1.0, max_cell_m=cell_m, min_cells_across=1.0)
+    return replace(
+        block_3d(uniform),
         element=Element("block", 3.0, width_m=15.0, length_m=20.0),
-        concrete=CONCRETE,
-        ambient=Ambient(air_c=15.0),
-        faces={
-            "top": Face(insulation_r_m2k_w=0.5),
-            "bottom": Face(adiabatic=True),
-            **{n: Face(formwork_r_m2k_w=0.3) for n in ("left", "right", "front", "back")},
-        },
-        placement_c=20.0,
         duration_h=240.0,
-        resolution=Resolution(
-            surface_cell_m=cell_m, growth=1.0, max_cell_m=cell_m, min_cells_across=1.0
-        ),
     )
 
 
