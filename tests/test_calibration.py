@@ -257,6 +257,24 @@ def test_section_calibrates_its_side_conductance():
     _check_side_calibration(plan)
 
 
+def test_coarse_grid_jacobians_fit_what_own_grid_jacobians_fit():
+    """The Jacobians' forward differences run on the coarse grid (``Scenario.coarsened``), the
+    residuals on the pour's own: the fitted values must be those of a fit whose differences
+    run on its own grid (measured: equal to 1e-4 here and on the pier example)."""
+    plan = _formed_element(
+        Element("section", 2.5, width_m=1.2),
+        (Sensor("C", 1.25), Sensor("T", 0.05), Sensor("S", 1.25, 0.55)),
+        ("left", "right"),
+    )
+    truth = forecast(with_parameters(plan, SIDE_TRUTH))
+    readings = _site_readings(truth, ("C", "T", "S"), np.arange(1.0, 49.0), seed=5)
+    coarse = calibrate(plan, *readings)
+    own = calibrate(plan, *readings, coarse_jacobian=False)
+    assert coarse.coarse_forecasts > 0 and own.coarse_forecasts == 0
+    for name, value in own.values.items():
+        assert coarse.values[name] == pytest.approx(value, rel=2e-3), name
+
+
 def test_block_calibrates_to_its_peak():
     """A 4 x 3 x 1.5 m block (3D, a quarter meshed): core, under the top, 50 mm inside a side,
     near a vertical edge."""
