@@ -6,9 +6,9 @@ limits and a value a quarter tolerance beyond misses them. To spend fewer foreca
 scenario's own grid, the search is first run on a grid twice as coarse in space and time (about
 a tenth of the cost in 3D), and the answer is then found on the scenario's own grid from there:
 the margin on the coarse grid is offset from the fine one by a nearly constant grid error, so a
-forecast at the coarse answer, one at the crossing the coarse slope predicts, a secant through
-them and the two checking forecasts usually settle it (a multilevel, or multi-fidelity, search:
-the coarse model only proposes, the fine model decides). When the limits are met (or missed) over
+forecast at the coarse answer gives that offset, the coarse slope turns it into an estimate of
+the crossing, and two checking forecasts around the estimate usually settle it (a multilevel,
+or multi-fidelity, search: the coarse model only proposes, the fine model decides). When the limits are met (or missed) over
 the whole allowed range the result says so instead of returning a bracket end as if it were the
 answer. A limit whose verdict is "unsettled" (its maximum near the end of the forecast and still
 rising, or a removal's cooling shock not over: see model.results.Forecast.limit_verdict) counts
