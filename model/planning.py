@@ -3,14 +3,15 @@
 Each search runs whole forecasts and finds where the margin to the limits crosses zero with
 ``scipy.optimize.brentq``; the answer is then checked so that the returned value meets the
 limits and a value a quarter tolerance beyond misses them. To spend fewer forecasts on the
-scenario's own grid, the search is first run on a grid twice as coarse in space and time (about
-a tenth of the cost in 3D), and the answer is then found on the scenario's own grid from there:
+scenario's own grid, sections and blocks are first searched on a grid twice as coarse in space
+and time (about a tenth of the cost in 3D), and the answer is then found on the scenario's own grid from there:
 the margin on the coarse grid is offset from the fine one by a nearly constant grid error, so a
 forecast at the coarse answer gives that offset, the coarse slope turns it into an estimate of
 the crossing, and two checking forecasts around the estimate usually settle it (a multilevel,
-or multi-fidelity, search: the coarse model only proposes, the fine model decides). When the limits are met (or missed) over
-the whole allowed range the result says so instead of returning a bracket end as if it were the
-answer. A limit whose verdict is "unsettled" (its maximum near the end of the forecast and still
+or multi-fidelity, search: the coarse model only proposes, the fine model decides).
+
+When the limits are met (or missed) over the whole allowed range the result says so instead
+of returning a bracket end as if it were the answer. A limit whose verdict is "unsettled" (its maximum near the end of the forecast and still
 rising, or a removal's cooling shock not over: see model.results.Forecast.limit_verdict) counts
 as not met.
 """
@@ -362,16 +363,16 @@ def solve_control(
 ) -> ControlResult:
     """Find the most permissive value of ``control`` that keeps ``scenario`` inside ``limits``.
 
-        The margin searched is the smaller of the two limit margins, except for insulation R, where
-        only the differential is searched and the peak is then checked (more insulation warms the
-        core). With ``coarse_first`` (by default for sections and blocks, whose forecasts cost
+    The margin searched is the smaller of the two limit margins, except for insulation R, where
+    only the differential is searched and the peak is then checked (more insulation warms the
+    core). With ``coarse_first`` (by default for sections and blocks, whose forecasts cost
     about a quarter and a tenth as much on the coarse grid; a slab's cost is mostly per step and
-    hardly falls) the search first runs on a grid ``model.scenario.COARSENING`` times coarser in
-        space and time, and the answer on the scenario's own grid is then found from there in
-        about four forecasts; whatever that does not settle is searched over the whole range as
-        without it. Either way the value returned meets the limits on the scenario's own grid and
-        a quarter tolerance beyond misses them (or the range end says so). Raises ValueError for
-        an unknown control or one that does not apply.
+    hardly falls) the search first runs on ``scenario.coarsened()``, and the answer on the
+    scenario's own grid is then found from there in about three forecasts; whatever that does
+    not settle is searched over the whole range as without it. Either way the value returned
+    meets the limits on the scenario's own grid and a quarter tolerance beyond misses them (or
+    the range end says so). Raises ValueError for an unknown control or one that does not
+    apply.
     """
     if control not in SEARCHES:
         raise ValueError(f"unknown control {control!r}; expected one of {sorted(SEARCHES)}")
