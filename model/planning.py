@@ -4,16 +4,17 @@ Each search runs whole forecasts and finds where the margin to the limits crosse
 ``scipy.optimize.brentq``; the answer is then checked so that the returned value meets the
 limits and a value a quarter tolerance beyond misses them. To spend fewer forecasts on the
 scenario's own grid, sections and blocks are first searched on a grid twice as coarse in space
-and time (about a tenth of the cost in 3D), and the answer is then found on the scenario's own grid from there:
-the margin on the coarse grid is offset from the fine one by a nearly constant grid error, so a
-forecast at the coarse answer gives that offset, the coarse slope turns it into an estimate of
-the crossing, and two checking forecasts around the estimate usually settle it (a multilevel,
-or multi-fidelity, search: the coarse model only proposes, the fine model decides).
+and time (about a tenth of the cost in 3D), and the answer is then found on the scenario's own
+grid from there: the margin on the coarse grid is offset from the fine one by a nearly constant
+grid error, so a forecast at the coarse answer gives that offset, the coarse slope turns it
+into an estimate of the crossing, and two checking forecasts around the estimate usually settle
+it (a multilevel, or multi-fidelity, search: the coarse model only proposes, the fine model
+decides).
 
 When the limits are met (or missed) over the whole allowed range the result says so instead
-of returning a bracket end as if it were the answer. A limit whose verdict is "unsettled" (its maximum near the end of the forecast and still
-rising, or a removal's cooling shock not over: see model.results.Forecast.limit_verdict) counts
-as not met.
+of returning a bracket end as if it were the answer. A limit whose verdict is "unsettled" (its
+maximum near the end of the forecast and still rising, or a removal's cooling shock not over:
+see model.results.Forecast.limit_verdict) counts as not met.
 """
 
 import math
