@@ -280,6 +280,17 @@ def uncertainty_band(
     }
 
 
+def band_rounds(scenario: Scenario, samples: int) -> int:
+    """Whole forecasts of ``scenario`` in a row that a forecast with a band of ``samples``
+    costs, for the compute budget: the forecast, then the samples across the CPU cores
+    (sections and blocks: the samples and one nominal run on the coarse grid, counted at the
+    ratio of their estimated times)."""
+    if scenario.element.shape == "slab":
+        return 1 + parallel_rounds(samples)
+    share = estimated_seconds(scenario.coarsened()) / estimated_seconds(scenario)
+    return 1 + math.ceil(parallel_rounds(samples + 1) * share)
+
+
 def run_forecast(
     payload: Any,
     max_cell_steps: float = DEFAULT_MAX_CELL_STEPS,
@@ -302,7 +313,7 @@ def run_forecast(
     band = scenario_in.uncertainty  # type: ignore[attr-defined]
     check_budget(scenario, max_cell_steps, deadline=deadline)
     if band is not None:
-        rounds = 1 + parallel_rounds(band.samples)  # the forecast, then the samples
+        rounds = band_rounds(scenario, band.samples)
         check_budget(scenario, max_cell_steps, rounds, "uncertainty.samples", deadline)
     result = solve(scenario, deadline, progress)
     body = forecast_json(scenario_in, scenario, result, origin)

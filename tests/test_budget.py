@@ -5,6 +5,7 @@ scripts/measure_budget.py."""
 
 import copy
 import json
+import math
 import os
 import signal
 import socket
@@ -20,7 +21,13 @@ import requests
 from model.grid import cell_count
 from model.solver import ThermalSolver
 from service.errors import MAX_LISTED_ERRORS
-from service.forecasting import check_budget, validated_scenario
+from service.forecasting import (
+    band_rounds,
+    check_budget,
+    estimated_seconds,
+    parallel_rounds,
+    validated_scenario,
+)
 from service.limits import DEFAULT_FORECAST_TIMEOUT_S
 
 REPO = Path(__file__).resolve().parents[1]
@@ -169,3 +176,16 @@ def test_gunicorn_recycles_workers_after_max_requests(tmp_path):
             server.wait(timeout=30)
     text = log_path.read_text()
     assert "Autorestarting worker" in text, text  # 8 requests, a new worker every 3 or 4
+
+
+def test_a_band_on_a_block_is_budgeted_at_the_coarse_grid_cost(contract_scenario):
+    """Sections and blocks forecast a band's samples on the coarse grid: the budget counts them
+    at the ratio of estimated times, so the pier's 32-sample band costs a few forecasts, not 17
+    (on 2 cores); a slab's batch as before."""
+    _, pier, _ = validated_scenario(PIER)
+    share = estimated_seconds(pier.coarsened()) / estimated_seconds(pier)
+    assert 0.05 < share < 0.25
+    assert band_rounds(pier, 32) == 1 + math.ceil(parallel_rounds(33) * share)
+    assert 2 <= band_rounds(pier, 32) < 1 + parallel_rounds(32)
+    _, slab, _ = validated_scenario(contract_scenario)
+    assert band_rounds(slab, 32) == 1 + parallel_rounds(32)
