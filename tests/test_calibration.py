@@ -257,15 +257,20 @@ def test_section_calibrates_its_side_conductance():
     _check_side_calibration(plan)
 
 
-def test_coarse_grid_jacobians_fit_what_own_grid_jacobians_fit():
-    """The Jacobians' forward differences run on the coarse grid (``Scenario.coarsened``), the
-    residuals on the pour's own: the fitted values must be those of a fit whose differences
-    run on its own grid (measured: equal to 1e-4 here and on the pier example)."""
-    plan = _formed_element(
+def three_sensor_wall() -> Scenario:
+    """A 1.2 m wide, 2.5 m tall formed wall section with core, top and side sensors."""
+    return _formed_element(
         Element("section", 2.5, width_m=1.2),
         (Sensor("C", 1.25), Sensor("T", 0.05), Sensor("S", 1.25, 0.55)),
         ("left", "right"),
     )
+
+
+def test_coarse_grid_jacobians_fit_what_own_grid_jacobians_fit():
+    """The Jacobians' forward differences run on the coarse grid (``Scenario.coarsened``), the
+    residuals on the pour's own: the fitted values must be those of a fit whose differences
+    run on its own grid (measured: equal to 1e-4 here and on the pier example)."""
+    plan = three_sensor_wall()
     truth = forecast(with_parameters(plan, SIDE_TRUTH))
     readings = _site_readings(truth, ("C", "T", "S"), np.arange(1.0, 49.0), seed=5)
     coarse = calibrate(plan, *readings)

@@ -225,15 +225,10 @@ def test_section_calibration_on_the_cluster_equals_one_after_another(cluster, mo
     import numpy as np
 
     from model.calibration import calibrate, with_parameters
-    from model.scenario import Element, Sensor
     from model.solver import forecast
-    from tests.test_calibration import SIDE_TRUTH, _formed_element, _site_readings
+    from tests.test_calibration import SIDE_TRUTH, _site_readings, three_sensor_wall
 
-    plan = _formed_element(
-        Element("section", 2.5, width_m=1.2),
-        (Sensor("C", 1.25), Sensor("T", 0.05), Sensor("S", 1.25, 0.55)),
-        ("left", "right"),
-    )
+    plan = three_sensor_wall()
     truth = forecast(with_parameters(plan, SIDE_TRUTH))
     readings = _site_readings(truth, ("C", "T", "S"), np.arange(1.0, 25.0), seed=3)
     here = calibrate(plan, *readings)
